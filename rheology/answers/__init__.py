@@ -1,0 +1,1 @@
+"""Answers drawn from an envelope: transitions, integrated strength, point answers, words."""

@@ -1,0 +1,1 @@
+"""Pure-numpy physics: one function per published relation, SI units."""
