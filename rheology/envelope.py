@@ -10,7 +10,7 @@ Stresses are differential stresses sigma1 - sigma3 [Pa] in the triaxial conventi
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -105,78 +105,194 @@ def depth_grid(scenario: Scenario) -> tuple[np.ndarray, np.ndarray]:
     return depth[order], layer[order]
 
 
-def geotherm_profile(scenario: Scenario, depth) -> geotherm.GeothermProfile:
+@dataclass(frozen=True)
+class Variation:
+    """Per-realisation replacements of scenario inputs, for Monte Carlo runs and site batches.
+
+    Every array has the realisation axis first (length R); None keeps the scenario value.
+
+    Attributes
+    ----------
+    size : int
+        Number of realisations R.
+    strain_rate : ndarray, optional
+        Axial strain rate [1/s], shape (R,).
+    geotherm : dict, optional
+        :class:`rheology.model.Geotherm` field name -> values (R,) [SI].
+    pore_pressure_ratio : ndarray, optional
+        Pore-pressure ratio (R,); replaces the scenario's pore-pressure model.
+    friction_scale : ndarray, optional
+        Multiplier of the friction coefficients (R,) (of both Byerlee branches, or of mu).
+    thickness : ndarray, optional
+        Layer thicknesses [m], shape (R, L).
+    faulting : ndarray of str, optional
+        Faulting regime per realisation (R,).
+    laws : dict, optional
+        (layer index, law index) -> {"A": (R,), "n": (R,), "Q": (R,), "V": (R,)} [SI];
+        A is the law's SI pre-factor before grain size and water are folded in.
+    """
+
+    size: int
+    strain_rate: np.ndarray | None = None
+    geotherm: dict = field(default_factory=dict)
+    pore_pressure_ratio: np.ndarray | None = None
+    friction_scale: np.ndarray | None = None
+    thickness: np.ndarray | None = None
+    faulting: np.ndarray | None = None
+    laws: dict = field(default_factory=dict)
+
+
+def _column(values):
+    """(R,) -> (R, 1) so per-realisation values broadcast against depth."""
+    return None if values is None else np.asarray(values, float)[:, None]
+
+
+def geotherm_profile(scenario: Scenario, depth, variation: Variation | None = None):
     """Temperature [K] and heat flow [W/m^2] of the scenario's geotherm at ``depth``."""
     g = scenario.geotherm
     layers = scenario.layers
+    values = {name: getattr(g, name) for name in g.__dataclass_fields__}
+    thickness = [ly.thickness for ly in layers]
+    if variation is not None:
+        values.update({k: _column(v) for k, v in variation.geotherm.items()})
+        if variation.thickness is not None:
+            thickness = variation.thickness
+    v = values
     if g.kind == "linear":
-        conductivity = g.conductivity or layers[0].conductivity
-        profile = geotherm.linear(depth, g.surface_temperature, g.gradient, conductivity)
+        conductivity = v["conductivity"] or layers[0].conductivity
+        profile = geotherm.linear(depth, v["surface_temperature"], v["gradient"], conductivity)
     elif g.kind == "layered-steady":
         profile = geotherm.layered_steady(
-            depth, g.surface_temperature, g.surface_heat_flow,
-            [ly.thickness for ly in layers], [ly.heat_production for ly in layers],
-            [ly.conductivity for ly in layers])
+            depth, v["surface_temperature"], v["surface_heat_flow"], thickness,
+            [ly.heat_production for ly in layers], [ly.conductivity for ly in layers])
     elif g.kind == "exponential-heat":
-        profile = geotherm.exponential_heat(depth, g.surface_temperature, g.surface_heat_flow,
-                                            g.surface_heat_production, g.decay_depth,
-                                            g.conductivity)
+        profile = geotherm.exponential_heat(depth, v["surface_temperature"],
+                                            v["surface_heat_flow"], v["surface_heat_production"],
+                                            v["decay_depth"], v["conductivity"])
     elif g.kind == "half-space":
-        profile = geotherm.half_space(depth, g.age, g.surface_temperature, g.mantle_temperature,
-                                      g.diffusivity, g.conductivity or 3.3)
+        profile = geotherm.half_space(depth, v["age"], v["surface_temperature"],
+                                      v["mantle_temperature"], v["diffusivity"],
+                                      3.3 if v["conductivity"] is None else v["conductivity"])
     else:
-        profile = geotherm.plate(depth, g.age, g.surface_temperature, g.mantle_temperature,
-                                 g.plate_thickness, g.diffusivity, g.conductivity or 3.3)
-    if g.potential_temperature is not None:
-        profile = geotherm.cap_at_adiabat(profile, depth, g.potential_temperature,
-                                          g.adiabatic_gradient)
+        profile = geotherm.plate(depth, v["age"], v["surface_temperature"],
+                                 v["mantle_temperature"], v["plate_thickness"], v["diffusivity"],
+                                 3.3 if v["conductivity"] is None else v["conductivity"])
+    if v["potential_temperature"] is not None:
+        profile = geotherm.cap_at_adiabat(profile, depth, v["potential_temperature"],
+                                          v["adiabatic_gradient"])
     return profile
 
 
-def pore_pressure(scenario: Scenario, depth, lithostatic):
+def pore_pressure(scenario: Scenario, depth, lithostatic, variation: Variation | None = None):
     """Pore-fluid pressure [Pa] at ``depth`` for the scenario's pore-pressure model."""
+    if variation is not None and variation.pore_pressure_ratio is not None:
+        return pressure.pore_pressure_from_ratio(lithostatic,
+                                                 _column(variation.pore_pressure_ratio))
     model = scenario.pore_pressure
     if model.kind == "ratio":
         return pressure.pore_pressure_from_ratio(lithostatic, model.ratio)
     if model.kind == "hydrostatic":
-        return pressure.hydrostatic_pressure(depth)
+        return pressure.hydrostatic_pressure(depth) + 0.0 * lithostatic
     return pressure.pore_pressure_overpressured(depth, lithostatic, model.top_depth,
                                                 model.ratio_below)
 
 
-def layer_terms(scenario: Scenario) -> list[list[creep.CreepTerm]]:
-    """Creep terms of each layer's rock, with its grain size and water folded in."""
-    return [[law.term(layer.grain_size, layer.water) for law in layer.rock.laws]
-            for layer in scenario.layers]
+def layer_terms(scenario: Scenario, variation: Variation | None = None):
+    """Creep terms of each layer's rock, with grain size and water folded in.
+
+    With a variation, replaced parameters become (R, 1) columns.
+    """
+    terms = []
+    for i, layer in enumerate(scenario.layers):
+        row = []
+        for j, law in enumerate(layer.rock.laws):
+            changed = {} if variation is None else variation.laws.get((i, j), {})
+            if changed:
+                law = replace(law, **{k: _column(v) for k, v in changed.items()})
+            row.append(law.term(layer.grain_size, layer.water))
+        terms.append(row)
+    return terms
 
 
-def evaluate(scenario: Scenario, depth, layer, *, terms=None) -> dict[str, np.ndarray]:
-    """All envelope fields at arbitrary ``depth`` [m] nodes assigned to ``layer`` indices.
+def assign_layers(scenario: Scenario, depth, variation: Variation | None = None):
+    """Layer index of each depth node (a node on a boundary belongs to the lower layer)."""
+    depth = np.asarray(depth, float)
+    if variation is None or variation.thickness is None:
+        bases = np.cumsum([ly.thickness for ly in scenario.layers])[:-1]
+        return np.searchsorted(bases, depth, side="right")
+    bases = np.cumsum(np.asarray(variation.thickness, float), axis=-1)[:, :-1]
+    return np.sum(depth[..., None] >= bases[:, None, :], axis=-1)
 
-    ``terms`` (from :func:`layer_terms`) may be passed to reuse prepared creep terms.
+
+def _frictional(scenario, lithostatic, fluid, variation):
+    f = scenario.friction
+    scale = 1.0 if variation is None or variation.friction_scale is None else _column(
+        variation.friction_scale)
+    regimes = None if variation is None else variation.faulting
+    if regimes is None:
+        return friction.frictional_strength(lithostatic, fluid, scenario.faulting, f.mu,
+                                            f.cohesion, mu_scale=scale)
+    regimes = np.asarray(regimes)
+    out = np.zeros(np.broadcast_shapes(np.shape(lithostatic), (regimes.size, 1)))
+    for regime in np.unique(regimes):
+        strength = friction.frictional_strength(lithostatic, fluid, str(regime), f.mu,
+                                                f.cohesion, mu_scale=scale)
+        out = np.where((regimes == regime)[:, None], strength, out)
+    return out
+
+
+def evaluate(scenario: Scenario, depth, layer=None, *, variation: Variation | None = None,
+             terms=None) -> dict[str, np.ndarray]:
+    """All envelope fields at ``depth`` [m] nodes.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    depth : array_like
+        Depth nodes [m], shape (nz,).
+    layer : array_like of int, optional
+        Layer of each node; by default from the layer thicknesses.
+    variation : Variation, optional
+        Per-realisation inputs; results then have shape (R, nz).
+    terms : list, optional
+        Prepared creep terms (:func:`layer_terms`) to reuse.
+
+    Returns
+    -------
+    dict
+        depth, layer, temperature, heat_flow, lithostatic, pore_pressure, brittle, ductile,
+        strength, mechanism (codes into :data:`MECHANISMS`).
     """
     depth = np.asarray(depth, float)
-    layer = np.asarray(layer, int)
-    regime = scenario.faulting
-    layers = scenario.layers
-    temperature, heat_flow = geotherm_profile(scenario, depth)
-    lithostatic = pressure.lithostatic_pressure(depth, [ly.thickness for ly in layers],
-                                                [ly.density for ly in layers])
-    fluid = pore_pressure(scenario, depth, lithostatic)
-    brittle = friction.frictional_strength(lithostatic, fluid, regime, scenario.friction.mu,
-                                           scenario.friction.cohesion)
-    ductile = np.empty_like(depth)
-    creep_code = np.empty(depth.shape, dtype=np.int8)
-    terms = layer_terms(scenario) if terms is None else terms
-    for index, layer_def in enumerate(layers):
+    layer = assign_layers(scenario, depth, variation) if layer is None else np.asarray(layer)
+    thickness = [ly.thickness for ly in scenario.layers]
+    if variation is not None and variation.thickness is not None:
+        thickness = np.asarray(variation.thickness, float)
+    temperature, heat_flow = geotherm_profile(scenario, depth, variation)
+    lithostatic = pressure.lithostatic_pressure(depth, thickness,
+                                                [ly.density for ly in scenario.layers])
+    fluid = pore_pressure(scenario, depth, lithostatic, variation)
+    brittle = _frictional(scenario, lithostatic, fluid, variation)
+    strain_rate = scenario.strain_rate if variation is None or variation.strain_rate is None \
+        else _column(variation.strain_rate)
+    shape = np.broadcast_shapes(depth.shape, np.shape(temperature), np.shape(brittle),
+                                np.shape(strain_rate), layer.shape)
+    ductile = np.empty(shape)
+    creep_code = np.empty(shape, dtype=np.int8)
+    terms = layer_terms(scenario, variation) if terms is None else terms
+    for index, layer_def in enumerate(scenario.layers):
         at = layer == index
         if not np.any(at):
             continue
-        result = creep.composite_stress(scenario.strain_rate, temperature[at], lithostatic[at],
-                                        terms[index])
-        ductile[at] = result.stress
+        pick = _picker(at, shape)
+        layer_terms_at = [_pick_term(term, pick) for term in terms[index]]
+        result = creep.composite_stress(pick(strain_rate), pick(temperature), pick(lithostatic),
+                                        layer_terms_at)
         codes = np.array([_CREEP_CODE[law.mechanism] for law in layer_def.rock.laws], np.int8)
-        creep_code[at] = codes[result.dominant]
+        where = (Ellipsis, at) if at.ndim == 1 else np.broadcast_to(at, shape)
+        ductile[where] = result.stress
+        creep_code[where] = codes[result.dominant]
+    brittle = np.broadcast_to(brittle, shape)
     strength = np.minimum(brittle, ductile)
     effective = lithostatic - fluid
     mechanism = np.where(brittle <= ductile, FRICTIONAL,
@@ -184,6 +300,29 @@ def evaluate(scenario: Scenario, depth, layer, *, terms=None) -> dict[str, np.nd
     return dict(depth=depth, layer=layer, temperature=temperature, heat_flow=heat_flow,
                 lithostatic=lithostatic, pore_pressure=fluid, brittle=brittle, ductile=ductile,
                 strength=strength, mechanism=mechanism)
+
+
+def _picker(at, shape):
+    """Function cutting an array (or broadcastable parameter) to the nodes where ``at``."""
+    if at.ndim == 1:  # same layering in every realisation: slice the depth axis
+        def pick(x):
+            x = np.asarray(x, float)
+            return x[..., at] if x.ndim and x.shape[-1] == at.size else x
+    else:
+        mask = np.broadcast_to(at, shape)
+
+        def pick(x):
+            return np.broadcast_to(np.asarray(x, float), shape)[mask]
+    return pick
+
+
+def _pick_term(term: creep.CreepTerm, pick) -> creep.CreepTerm:
+    """The term with its per-realisation (R, 1) parameters cut to the nodes picked."""
+    fields = {}
+    for name in ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress"):
+        value = np.asarray(getattr(term, name), float)
+        fields[name] = pick(value) if value.ndim else value
+    return creep.CreepTerm(term.kind, **fields)
 
 
 def compute_envelope(scenario: Scenario, *, faulting: str | None = None) -> Envelope:
@@ -219,12 +358,6 @@ def compute_envelope(scenario: Scenario, *, faulting: str | None = None) -> Enve
     """
     if faulting is not None:
         friction.check_regime(faulting)
-        scenario = _with_faulting(scenario, faulting)
+        scenario = replace(scenario, faulting=faulting)
     depth, layer = depth_grid(scenario)
     return Envelope(scenario=scenario, **evaluate(scenario, depth, layer))
-
-
-def _with_faulting(scenario: Scenario, faulting: str) -> Scenario:
-    from dataclasses import replace
-
-    return replace(scenario, faulting=faulting)

@@ -382,15 +382,23 @@ def composite_stress(strain_rate, temperature, pressure, terms):
                            log_rates.reshape((len(terms), *shape)))
 
 
+_FIELDS = ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress")
+
+
 def _flatten(term, shape):
-    fields = {k: np.broadcast_to(np.asarray(getattr(term, k), float), shape).ravel()
-              for k in ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress")}
+    """Broadcast the term's array parameters to the grid, flattened; scalars stay scalars."""
+    fields = {}
+    for name in _FIELDS:
+        value = np.asarray(getattr(term, name), float)
+        fields[name] = value if value.ndim == 0 else np.broadcast_to(value, shape).ravel()
     return CreepTerm(term.kind, **fields)
 
 
 def _subset(term, index):
-    fields = {k: getattr(term, k)[index]
-              for k in ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress")}
+    fields = {}
+    for name in _FIELDS:
+        value = getattr(term, name)
+        fields[name] = value if value.ndim == 0 else value[index]
     return CreepTerm(term.kind, **fields)
 
 

@@ -119,7 +119,7 @@ def andersonian_differential_stress(vertical_effective_stress, mu, cohesion, reg
     return 2.0 * (ratio - 1.0) / (ratio + 1.0) * sv + 4.0 * cohesion * root / (ratio + 1.0)
 
 
-def byerlee_differential_stress(vertical_stress, pore_pressure, regime):
+def byerlee_differential_stress(vertical_stress, pore_pressure, regime, mu_scale=1.0):
     """Differential stress [Pa] for Byerlee friction on an optimally oriented fault.
 
     Byerlee's envelope is the lesser of its two straight lines, so the Mohr circle at
@@ -133,6 +133,9 @@ def byerlee_differential_stress(vertical_stress, pore_pressure, regime):
     pore_pressure : array_like
         Pore-fluid pressure [Pa].
     regime : {"thrust", "strike-slip", "normal"}
+    mu_scale : array_like, optional
+        Multiplier of both branches' friction coefficients (1 = Byerlee's values), for
+        sensitivity studies; the branch intercepts are kept.
 
     References
     ----------
@@ -140,17 +143,24 @@ def byerlee_differential_stress(vertical_stress, pore_pressure, regime):
     D. L. (1980). J. Geophys. Res. 85, 6248-6252.
     """
     effective = np.asarray(vertical_stress, float) - np.asarray(pore_pressure, float)
-    low = andersonian_differential_stress(effective, *BYERLEE_LOW, regime)
-    high = andersonian_differential_stress(effective, *BYERLEE_HIGH, regime)
+    low = andersonian_differential_stress(effective, BYERLEE_LOW[0] * mu_scale, BYERLEE_LOW[1],
+                                          regime)
+    high = andersonian_differential_stress(effective, BYERLEE_HIGH[0] * mu_scale,
+                                           BYERLEE_HIGH[1], regime)
     return np.minimum(low, high)
 
 
-def frictional_strength(vertical_stress, pore_pressure, regime, mu=None, cohesion=0.0):
-    """Frictional strength [Pa]: Byerlee (``mu=None``) or a constant mu with cohesion."""
+def frictional_strength(vertical_stress, pore_pressure, regime, mu=None, cohesion=0.0,
+                        mu_scale=1.0):
+    """Frictional strength [Pa]: Byerlee (``mu=None``) or a constant mu with cohesion.
+
+    ``mu_scale`` multiplies the friction coefficient(s) (1 = as given).
+    """
     if mu is None:
-        return byerlee_differential_stress(vertical_stress, pore_pressure, regime)
+        return byerlee_differential_stress(vertical_stress, pore_pressure, regime, mu_scale)
     effective = np.asarray(vertical_stress, float) - np.asarray(pore_pressure, float)
-    return andersonian_differential_stress(effective, mu, cohesion, regime)
+    return andersonian_differential_stress(effective, mu * np.asarray(mu_scale, float),
+                                           cohesion, regime)
 
 
 def principal_effective_stresses(vertical_effective_stress, differential_stress, regime):
