@@ -25,9 +25,16 @@ __version__ = "0.1.0"
 
 def __getattr__(name):
     # scenario files and the reference tables load lazily (they read files)
-    if name in ("load_scenario", "parse_scenario", "dump_scenario", "save_scenario",
-                "bundled_example", "list_examples", "scenario_from_mapping",
-                "scenario_to_mapping"):
+    if name in (
+        "load_scenario",
+        "parse_scenario",
+        "dump_scenario",
+        "save_scenario",
+        "bundled_example",
+        "list_examples",
+        "scenario_from_mapping",
+        "scenario_to_mapping",
+    ):
         from rheology import scenario
 
         return getattr(scenario, name)
@@ -39,8 +46,27 @@ def __getattr__(name):
 
 
 __all__ = [
-    "CAUTION", "MECHANISMS", "Analysis", "Envelope", "Friction", "Geotherm", "Layer",
-    "PorePressure", "Q_", "RheologyError", "RheologyWarning", "Scenario", "ScenarioError",
-    "TableError", "analyse", "compute_envelope", "elastic_thickness", "find_transitions",
-    "goetze_depths", "integrated_strength", "point_answer", "regime_bands", "ureg",
+    "CAUTION",
+    "MECHANISMS",
+    "Analysis",
+    "Envelope",
+    "Friction",
+    "Geotherm",
+    "Layer",
+    "PorePressure",
+    "Q_",
+    "RheologyError",
+    "RheologyWarning",
+    "Scenario",
+    "ScenarioError",
+    "TableError",
+    "analyse",
+    "compute_envelope",
+    "elastic_thickness",
+    "find_transitions",
+    "goetze_depths",
+    "integrated_strength",
+    "point_answer",
+    "regime_bands",
+    "ureg",
 ]

@@ -163,38 +163,62 @@ def geotherm_profile(scenario: Scenario, depth, variation: Variation | None = No
         profile = geotherm.linear(depth, v["surface_temperature"], v["gradient"], conductivity)
     elif g.kind == "layered-steady":
         profile = geotherm.layered_steady(
-            depth, v["surface_temperature"], v["surface_heat_flow"], thickness,
-            [ly.heat_production for ly in layers], [ly.conductivity for ly in layers])
+            depth,
+            v["surface_temperature"],
+            v["surface_heat_flow"],
+            thickness,
+            [ly.heat_production for ly in layers],
+            [ly.conductivity for ly in layers],
+        )
     elif g.kind == "exponential-heat":
-        profile = geotherm.exponential_heat(depth, v["surface_temperature"],
-                                            v["surface_heat_flow"], v["surface_heat_production"],
-                                            v["decay_depth"], v["conductivity"])
+        profile = geotherm.exponential_heat(
+            depth,
+            v["surface_temperature"],
+            v["surface_heat_flow"],
+            v["surface_heat_production"],
+            v["decay_depth"],
+            v["conductivity"],
+        )
     elif g.kind == "half-space":
-        profile = geotherm.half_space(depth, v["age"], v["surface_temperature"],
-                                      v["mantle_temperature"], v["diffusivity"],
-                                      3.3 if v["conductivity"] is None else v["conductivity"])
+        profile = geotherm.half_space(
+            depth,
+            v["age"],
+            v["surface_temperature"],
+            v["mantle_temperature"],
+            v["diffusivity"],
+            3.3 if v["conductivity"] is None else v["conductivity"],
+        )
     else:
-        profile = geotherm.plate(depth, v["age"], v["surface_temperature"],
-                                 v["mantle_temperature"], v["plate_thickness"], v["diffusivity"],
-                                 3.3 if v["conductivity"] is None else v["conductivity"])
+        profile = geotherm.plate(
+            depth,
+            v["age"],
+            v["surface_temperature"],
+            v["mantle_temperature"],
+            v["plate_thickness"],
+            v["diffusivity"],
+            3.3 if v["conductivity"] is None else v["conductivity"],
+        )
     if v["potential_temperature"] is not None:
-        profile = geotherm.cap_at_adiabat(profile, depth, v["potential_temperature"],
-                                          v["adiabatic_gradient"])
+        profile = geotherm.cap_at_adiabat(
+            profile, depth, v["potential_temperature"], v["adiabatic_gradient"]
+        )
     return profile
 
 
 def pore_pressure(scenario: Scenario, depth, lithostatic, variation: Variation | None = None):
     """Pore-fluid pressure [Pa] at ``depth`` for the scenario's pore-pressure model."""
     if variation is not None and variation.pore_pressure_ratio is not None:
-        return pressure.pore_pressure_from_ratio(lithostatic,
-                                                 _column(variation.pore_pressure_ratio))
+        return pressure.pore_pressure_from_ratio(
+            lithostatic, _column(variation.pore_pressure_ratio)
+        )
     model = scenario.pore_pressure
     if model.kind == "ratio":
         return pressure.pore_pressure_from_ratio(lithostatic, model.ratio)
     if model.kind == "hydrostatic":
         return pressure.hydrostatic_pressure(depth) + 0.0 * lithostatic
-    return pressure.pore_pressure_overpressured(depth, lithostatic, model.top_depth,
-                                                model.ratio_below)
+    return pressure.pore_pressure_overpressured(
+        depth, lithostatic, model.top_depth, model.ratio_below
+    )
 
 
 def layer_terms(scenario: Scenario, variation: Variation | None = None):
@@ -226,23 +250,29 @@ def assign_layers(scenario: Scenario, depth, variation: Variation | None = None)
 
 def _frictional(scenario, lithostatic, fluid, variation):
     f = scenario.friction
-    scale = 1.0 if variation is None or variation.friction_scale is None else _column(
-        variation.friction_scale)
+    scale = (
+        1.0
+        if variation is None or variation.friction_scale is None
+        else _column(variation.friction_scale)
+    )
     regimes = None if variation is None else variation.faulting
     if regimes is None:
-        return friction.frictional_strength(lithostatic, fluid, scenario.faulting, f.mu,
-                                            f.cohesion, mu_scale=scale)
+        return friction.frictional_strength(
+            lithostatic, fluid, scenario.faulting, f.mu, f.cohesion, mu_scale=scale
+        )
     regimes = np.asarray(regimes)
     out = np.zeros(np.broadcast_shapes(np.shape(lithostatic), (regimes.size, 1)))
     for regime in np.unique(regimes):
-        strength = friction.frictional_strength(lithostatic, fluid, str(regime), f.mu,
-                                                f.cohesion, mu_scale=scale)
+        strength = friction.frictional_strength(
+            lithostatic, fluid, str(regime), f.mu, f.cohesion, mu_scale=scale
+        )
         out = np.where((regimes == regime)[:, None], strength, out)
     return out
 
 
-def evaluate(scenario: Scenario, depth, layer=None, *, variation: Variation | None = None,
-             terms=None) -> dict[str, np.ndarray]:
+def evaluate(
+    scenario: Scenario, depth, layer=None, *, variation: Variation | None = None, terms=None
+) -> dict[str, np.ndarray]:
     """All envelope fields at ``depth`` [m] nodes.
 
     Parameters
@@ -269,14 +299,19 @@ def evaluate(scenario: Scenario, depth, layer=None, *, variation: Variation | No
     if variation is not None and variation.thickness is not None:
         thickness = np.asarray(variation.thickness, float)
     temperature, heat_flow = geotherm_profile(scenario, depth, variation)
-    lithostatic = pressure.lithostatic_pressure(depth, thickness,
-                                                [ly.density for ly in scenario.layers])
+    lithostatic = pressure.lithostatic_pressure(
+        depth, thickness, [ly.density for ly in scenario.layers]
+    )
     fluid = pore_pressure(scenario, depth, lithostatic, variation)
     brittle = _frictional(scenario, lithostatic, fluid, variation)
-    strain_rate = scenario.strain_rate if variation is None or variation.strain_rate is None \
+    strain_rate = (
+        scenario.strain_rate
+        if variation is None or variation.strain_rate is None
         else _column(variation.strain_rate)
-    shape = np.broadcast_shapes(depth.shape, np.shape(temperature), np.shape(brittle),
-                                np.shape(strain_rate), layer.shape)
+    )
+    shape = np.broadcast_shapes(
+        depth.shape, np.shape(temperature), np.shape(brittle), np.shape(strain_rate), layer.shape
+    )
     ductile = np.empty(shape)
     creep_code = np.empty(shape, dtype=np.int8)
     terms = layer_terms(scenario, variation) if terms is None else terms
@@ -286,8 +321,9 @@ def evaluate(scenario: Scenario, depth, layer=None, *, variation: Variation | No
             continue
         pick = _picker(at, shape)
         layer_terms_at = [_pick_term(term, pick) for term in terms[index]]
-        result = creep.composite_stress(pick(strain_rate), pick(temperature), pick(lithostatic),
-                                        layer_terms_at)
+        result = creep.composite_stress(
+            pick(strain_rate), pick(temperature), pick(lithostatic), layer_terms_at
+        )
         codes = np.array([_CREEP_CODE[law.mechanism] for law in layer_def.rock.laws], np.int8)
         where = (Ellipsis, at) if at.ndim == 1 else np.broadcast_to(at, shape)
         ductile[where] = result.stress
@@ -295,16 +331,27 @@ def evaluate(scenario: Scenario, depth, layer=None, *, variation: Variation | No
     brittle = np.broadcast_to(brittle, shape)
     strength = np.minimum(brittle, ductile)
     effective = lithostatic - fluid
-    mechanism = np.where(brittle <= ductile, FRICTIONAL,
-                         np.where(ductile > effective, SEMI_BRITTLE, creep_code)).astype(np.int8)
-    return dict(depth=depth, layer=layer, temperature=temperature, heat_flow=heat_flow,
-                lithostatic=lithostatic, pore_pressure=fluid, brittle=brittle, ductile=ductile,
-                strength=strength, mechanism=mechanism)
+    mechanism = np.where(
+        brittle <= ductile, FRICTIONAL, np.where(ductile > effective, SEMI_BRITTLE, creep_code)
+    ).astype(np.int8)
+    return dict(
+        depth=depth,
+        layer=layer,
+        temperature=temperature,
+        heat_flow=heat_flow,
+        lithostatic=lithostatic,
+        pore_pressure=fluid,
+        brittle=brittle,
+        ductile=ductile,
+        strength=strength,
+        mechanism=mechanism,
+    )
 
 
 def _picker(at, shape):
     """Function cutting an array (or broadcastable parameter) to the nodes where ``at``."""
     if at.ndim == 1:  # same layering in every realisation: slice the depth axis
+
         def pick(x):
             x = np.asarray(x, float)
             return x[..., at] if x.ndim and x.shape[-1] == at.size else x
@@ -313,6 +360,7 @@ def _picker(at, shape):
 
         def pick(x):
             return np.broadcast_to(np.asarray(x, float), shape)[mask]
+
     return pick
 
 

@@ -21,8 +21,12 @@ GEOTHERM_KINDS = ("linear", "layered-steady", "exponential-heat", "half-space", 
 GEOTHERM_PARAMETERS = {
     "linear": ("gradient",),
     "layered-steady": ("surface_heat_flow",),
-    "exponential-heat": ("surface_heat_flow", "surface_heat_production", "decay_depth",
-                         "conductivity"),
+    "exponential-heat": (
+        "surface_heat_flow",
+        "surface_heat_production",
+        "decay_depth",
+        "conductivity",
+    ),
     "half-space": ("age", "mantle_temperature", "diffusivity"),
     "plate": ("age", "mantle_temperature", "diffusivity", "plate_thickness"),
 }
@@ -36,8 +40,9 @@ def _require(condition: bool, field_name: str, value, expected: str) -> None:
 
 
 def _positive(value, name: str) -> None:
-    _require(value is not None and np.isfinite(value) and value > 0, name, value,
-             "a finite value > 0")
+    _require(
+        value is not None and np.isfinite(value) and value > 0, name, value, "a finite value > 0"
+    )
 
 
 @dataclass(frozen=True)
@@ -65,8 +70,12 @@ class Geotherm:
     adiabatic_gradient: float = 0.4e-3
 
     def __post_init__(self):
-        _require(self.kind in GEOTHERM_KINDS, "geotherm.kind", self.kind,
-                 "one of " + ", ".join(GEOTHERM_KINDS))
+        _require(
+            self.kind in GEOTHERM_KINDS,
+            "geotherm.kind",
+            self.kind,
+            "one of " + ", ".join(GEOTHERM_KINDS),
+        )
         _positive(self.surface_temperature, "geotherm.surface_temperature")
         for name in GEOTHERM_PARAMETERS[self.kind]:
             _positive(getattr(self, name), f"geotherm.{name}")
@@ -90,17 +99,32 @@ class PorePressure:
     ratio_below: float | None = None
 
     def __post_init__(self):
-        _require(self.kind in PORE_PRESSURE_KINDS, "pore_pressure", self.kind,
-                 "one of " + ", ".join(PORE_PRESSURE_KINDS))
+        _require(
+            self.kind in PORE_PRESSURE_KINDS,
+            "pore_pressure",
+            self.kind,
+            "one of " + ", ".join(PORE_PRESSURE_KINDS),
+        )
         if self.kind == "ratio":
-            _require(np.isfinite(self.ratio) and 0 <= self.ratio < 1, "pore_pressure_ratio",
-                     self.ratio, "a number from 0 (dry) up to, not including, 1 (lithostatic)")
+            _require(
+                np.isfinite(self.ratio) and 0 <= self.ratio < 1,
+                "pore_pressure_ratio",
+                self.ratio,
+                "a number from 0 (dry) up to, not including, 1 (lithostatic)",
+            )
         if self.kind == "overpressured":
-            _require(self.top_depth is not None and np.isfinite(self.top_depth)
-                     and self.top_depth >= 0, "overpressure.top_depth", self.top_depth,
-                     "a depth >= 0")
-            _require(self.ratio_below is not None and 0 <= self.ratio_below < 1,
-                     "overpressure.ratio_below", self.ratio_below, "a number in [0, 1)")
+            _require(
+                self.top_depth is not None and np.isfinite(self.top_depth) and self.top_depth >= 0,
+                "overpressure.top_depth",
+                self.top_depth,
+                "a depth >= 0",
+            )
+            _require(
+                self.ratio_below is not None and 0 <= self.ratio_below < 1,
+                "overpressure.ratio_below",
+                self.ratio_below,
+                "a number in [0, 1)",
+            )
 
 
 @dataclass(frozen=True)
@@ -113,8 +137,12 @@ class Friction:
     def __post_init__(self):
         if self.mu is not None:
             _positive(self.mu, "friction.mu")
-        _require(np.isfinite(self.cohesion) and self.cohesion >= 0, "friction.cohesion",
-                 self.cohesion, "a stress >= 0")
+        _require(
+            np.isfinite(self.cohesion) and self.cohesion >= 0,
+            "friction.cohesion",
+            self.cohesion,
+            "a stress >= 0",
+        )
 
 
 @dataclass(frozen=True)
@@ -143,8 +171,12 @@ class Layer:
         _positive(self.density, f"{where}: density")
         _positive(self.conductivity, f"{where}: conductivity")
         _positive(self.shear_modulus, f"{where}: shear_modulus")
-        _require(np.isfinite(self.heat_production) and self.heat_production >= 0,
-                 f"{where}: heat_production", self.heat_production, "a value >= 0")
+        _require(
+            np.isfinite(self.heat_production) and self.heat_production >= 0,
+            f"{where}: heat_production",
+            self.heat_production,
+            "a value >= 0",
+        )
         if self.rock.needs_grain_size:
             _positive(self.grain_size, f"{where}: grain_size (needed by rock {self.rock.id!r})")
         if self.rock.needs_water:
@@ -176,10 +208,18 @@ class Scenario:
         check_regime(self.faulting)
         _positive(self.max_depth, "max_depth")
         _positive(self.depth_step, "depth_step")
-        _require(self.depth_step <= self.max_depth, "depth_step", self.depth_step,
-                 f"a step no larger than max_depth ({self.max_depth:g} m)")
-        _require(self.max_depth / self.depth_step <= 2_000_000, "depth_step", self.depth_step,
-                 "at most 2,000,000 depth nodes")
+        _require(
+            self.depth_step <= self.max_depth,
+            "depth_step",
+            self.depth_step,
+            f"a step no larger than max_depth ({self.max_depth:g} m)",
+        )
+        _require(
+            self.max_depth / self.depth_step <= 2_000_000,
+            "depth_step",
+            self.depth_step,
+            "at most 2,000,000 depth nodes",
+        )
         _require(len(self.layers) > 0, "layers", self.layers, "at least one layer")
 
     @property

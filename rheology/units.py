@@ -64,8 +64,9 @@ def as_quantity(value: Any, unit: str, field: str) -> pint.Quantity:
     return Q_(array if array.ndim else float(array), unit)
 
 
-def to_si(value: Any, unit: str, field: str, *, positive: bool = False,
-          nonnegative: bool = False) -> float | np.ndarray:
+def to_si(
+    value: Any, unit: str, field: str, *, positive: bool = False, nonnegative: bool = False
+) -> float | np.ndarray:
     """Convert ``value`` to the SI magnitude of ``unit``'s dimension.
 
     Parameters
@@ -119,13 +120,19 @@ def to_kelvin(value: Any, field: str, *, default_unit: str = "K") -> float | np.
         )
     kelvin = quantity.to("K").magnitude
     kelvin = float(kelvin) if np.ndim(kelvin) == 0 else np.asarray(kelvin, float)
-    _check_finite_and_sign(kelvin, quantity, "K", field, positive=True, nonnegative=False,
-                           sign_text="above absolute zero (> 0 K)")
+    _check_finite_and_sign(
+        kelvin,
+        quantity,
+        "K",
+        field,
+        positive=True,
+        nonnegative=False,
+        sign_text="above absolute zero (> 0 K)",
+    )
     return kelvin
 
 
-def _check_finite_and_sign(magnitude, quantity, unit, field, positive, nonnegative,
-                           sign_text=None):
+def _check_finite_and_sign(magnitude, quantity, unit, field, positive, nonnegative, sign_text=None):
     values = np.asarray(magnitude)
     if not np.all(np.isfinite(values)):
         raise RheologyError(f"{field}: {_show(quantity)} is not a finite number")

@@ -31,8 +31,7 @@ def integrated_strength(envelope: Envelope) -> tuple[float, dict[str, float]]:
     for index, layer in enumerate(envelope.scenario.layers):
         at = envelope.layer == index
         if np.count_nonzero(at) > 1:
-            per_layer[layer.name] = float(np.trapezoid(envelope.strength[at],
-                                                       envelope.depth[at]))
+            per_layer[layer.name] = float(np.trapezoid(envelope.strength[at], envelope.depth[at]))
         elif np.any(at):
             per_layer[layer.name] = 0.0
     return float(sum(per_layer.values())), per_layer
@@ -55,8 +54,11 @@ class ElasticThickness:
         return tuple(bottom - top for top, bottom in self.competent)
 
 
-def elastic_thickness(envelope: Envelope, stress_threshold: float = COMPETENT_STRESS,
-                      fraction_threshold: float = COMPETENT_FRACTION) -> ElasticThickness:
+def elastic_thickness(
+    envelope: Envelope,
+    stress_threshold: float = COMPETENT_STRESS,
+    fraction_threshold: float = COMPETENT_FRACTION,
+) -> ElasticThickness:
     """Effective elastic thickness from the envelope (Burov & Diament 1995).
 
     A depth is competent where the envelope strength exceeds both ``stress_threshold``
@@ -71,8 +73,9 @@ def elastic_thickness(envelope: Envelope, stress_threshold: float = COMPETENT_ST
     continental lithosphere: what does it really mean? J. Geophys. Res. 100(B3),
     3905-3927 (the thresholds and the decoupled-layer rule are from memory).
     """
-    strong = envelope.strength > np.maximum(stress_threshold,
-                                            fraction_threshold * envelope.lithostatic)
+    strong = envelope.strength > np.maximum(
+        stress_threshold, fraction_threshold * envelope.lithostatic
+    )
     depth = envelope.depth
     edges = np.flatnonzero(np.diff(strong.astype(np.int8)))
     starts = list(edges[~strong[edges]] + 1)

@@ -56,10 +56,12 @@ class PointAnswer:
         """The answer in one plain sentence."""
         weaker, stronger = sorted((self.brittle, self.ductile))
         which = "friction" if self.brittle <= self.ductile else "creep"
-        text = (f"At {self.depth / 1e3:.2f} km ({self.temperature - 273.15:.0f} degC, "
-                f"{self.rock}): {self.mechanism} governs; {which} needs "
-                f"{weaker / 1e6:.1f} MPa, {self.margin:.2g} times less than the other "
-                f"mechanism ({stronger / 1e6:.3g} MPa).")
+        text = (
+            f"At {self.depth / 1e3:.2f} km ({self.temperature - 273.15:.0f} degC, "
+            f"{self.rock}): {self.mechanism} governs; {which} needs "
+            f"{weaker / 1e6:.1f} MPa, {self.margin:.2g} times less than the other "
+            f"mechanism ({stronger / 1e6:.3g} MPa)."
+        )
         if self.load is not None:
             text += f" A load of {self.load.stress / 1e6:.3g} MPa {self.load.outcome}: "
             text += self.load.reason
@@ -69,19 +71,31 @@ class PointAnswer:
 def layer_at(scenario: Scenario, depth: float) -> int:
     """Index of the layer containing ``depth`` [m] (the last layer extends downwards)."""
     if not np.isfinite(depth) or depth < 0 or depth > scenario.max_depth:
-        raise RheologyError(f"depth: {depth:g} m is outside the column; expected 0 to "
-                            f"{scenario.max_depth:g} m")
+        raise RheologyError(
+            f"depth: {depth:g} m is outside the column; expected 0 to {scenario.max_depth:g} m"
+        )
     bases = np.cumsum([ly.thickness for ly in scenario.layers])[:-1]
     return int(np.searchsorted(bases, depth, side="left"))
 
 
 def _creep_rate(layer: Layer, stress, temperature, pressure) -> float:
-    return float(sum(law.strain_rate(stress, temperature, pressure, layer.grain_size,
-                                     layer.water) for law in layer.rock.laws))
+    return float(
+        sum(
+            law.strain_rate(stress, temperature, pressure, layer.grain_size, layer.water)
+            for law in layer.rock.laws
+        )
+    )
 
 
-def judge_load(layer: Layer, brittle: float, ductile: float, temperature: float,
-               pressure: float, stress: float, duration: float) -> LoadVerdict:
+def judge_load(
+    layer: Layer,
+    brittle: float,
+    ductile: float,
+    temperature: float,
+    pressure: float,
+    stress: float,
+    duration: float,
+) -> LoadVerdict:
     """Elastic, breaks or flows, for ``stress`` [Pa] held for ``duration`` [s].
 
     * breaks if the stress reaches the frictional strength;
@@ -104,15 +118,33 @@ def judge_load(layer: Layer, brittle: float, ductile: float, temperature: float,
     viscosity = float(effective_viscosity(stress, rate)) if rate > 0 else np.inf
     maxwell = viscosity / layer.shear_modulus
     if stress >= brittle:
-        return LoadVerdict(stress, duration, BREAKS, maxwell, rate,
-                           f"it reaches the frictional strength ({brittle / 1e6:.3g} MPa).")
+        return LoadVerdict(
+            stress,
+            duration,
+            BREAKS,
+            maxwell,
+            rate,
+            f"it reaches the frictional strength ({brittle / 1e6:.3g} MPa).",
+        )
     if duration >= ELASTIC_FRACTION * maxwell or stress >= ductile:
-        return LoadVerdict(stress, duration, FLOWS, maxwell, rate,
-                           f"creep runs at {rate:.2g} 1/s and the Maxwell time is "
-                           f"{_years(maxwell)}, not long against the load's {_years(duration)}.")
-    return LoadVerdict(stress, duration, ELASTIC, maxwell, rate,
-                       f"below both strengths, and the load's {_years(duration)} is short "
-                       f"against the Maxwell time of {_years(maxwell)}.")
+        return LoadVerdict(
+            stress,
+            duration,
+            FLOWS,
+            maxwell,
+            rate,
+            f"creep runs at {rate:.2g} 1/s and the Maxwell time is "
+            f"{_years(maxwell)}, not long against the load's {_years(duration)}.",
+        )
+    return LoadVerdict(
+        stress,
+        duration,
+        ELASTIC,
+        maxwell,
+        rate,
+        f"below both strengths, and the load's {_years(duration)} is short "
+        f"against the Maxwell time of {_years(maxwell)}.",
+    )
 
 
 def _years(seconds: float) -> str:
@@ -122,8 +154,14 @@ def _years(seconds: float) -> str:
     return f"{years:.2g} years"
 
 
-def point_answer(scenario: Scenario, depth: float, *, strain_rate: float | None = None,
-                 stress: float | None = None, duration: float | None = None) -> PointAnswer:
+def point_answer(
+    scenario: Scenario,
+    depth: float,
+    *,
+    strain_rate: float | None = None,
+    stress: float | None = None,
+    duration: float | None = None,
+) -> PointAnswer:
     """Which mechanism governs at ``depth`` [m] of ``scenario``, and by what margin.
 
     Parameters
@@ -146,17 +184,35 @@ def point_answer(scenario: Scenario, depth: float, *, strain_rate: float | None 
     at = evaluate(scenario, np.array([float(depth)]), np.array([index]))
     temperature, lithostatic = float(at["temperature"][0]), float(at["lithostatic"][0])
     brittle, ductile = float(at["brittle"][0]), float(at["ductile"][0])
-    by_law = {law.id: float(law.stress(scenario.strain_rate, temperature, lithostatic,
-                                       layer.grain_size, layer.water))
-              for law in layer.rock.laws}
+    by_law = {
+        law.id: float(
+            law.stress(
+                scenario.strain_rate, temperature, lithostatic, layer.grain_size, layer.water
+            )
+        )
+        for law in layer.rock.laws
+    }
     weaker, stronger = sorted((brittle, ductile))
     margin = stronger / weaker if weaker > 0 else np.inf
     load = None
     if (stress is None) != (duration is None):
-        raise RheologyError("stress and duration: give both (the load and how long it lasts), "
-                            "or neither")
+        raise RheologyError(
+            "stress and duration: give both (the load and how long it lasts), or neither"
+        )
     if stress is not None:
         load = judge_load(layer, brittle, ductile, temperature, lithostatic, stress, duration)
-    return PointAnswer(float(depth), layer.name, layer.rock.name, temperature, lithostatic,
-                       float(at["pore_pressure"][0]), scenario.strain_rate, brittle, ductile,
-                       MECHANISMS[at["mechanism"][0]], float(margin), by_law, load)
+    return PointAnswer(
+        float(depth),
+        layer.name,
+        layer.rock.name,
+        temperature,
+        lithostatic,
+        float(at["pore_pressure"][0]),
+        scenario.strain_rate,
+        brittle,
+        ductile,
+        MECHANISMS[at["mechanism"][0]],
+        float(margin),
+        by_law,
+        load,
+    )

@@ -67,8 +67,12 @@ def _refine(lo, hi, layer, field_fn):
         mid = np.where(bad, 0.5 * (lo + hi), mid)
         f_mid = field_fn(mid, layer)
         same_as_lo = np.sign(f_mid) == np.sign(f_lo)
-        lo, f_lo, hi, f_hi = (np.where(same_as_lo, mid, lo), np.where(same_as_lo, f_mid, f_lo),
-                              np.where(same_as_lo, hi, mid), np.where(same_as_lo, f_hi, f_mid))
+        lo, f_lo, hi, f_hi = (
+            np.where(same_as_lo, mid, lo),
+            np.where(same_as_lo, f_mid, f_lo),
+            np.where(same_as_lo, hi, mid),
+            np.where(same_as_lo, f_hi, f_mid),
+        )
         # Illinois step: halve the stale end's value when the same end is kept twice
         f_hi = np.where(same_as_lo & (side == 1), 0.5 * f_hi, f_hi)
         f_lo = np.where(~same_as_lo & (side == -1), 0.5 * f_lo, f_lo)
@@ -96,24 +100,38 @@ def find_transitions(envelope: Envelope) -> list[Transition]:
     depth = np.where(same_layer, np.nan, envelope.depth[j])
     inner = j[same_layer]
     if inner.size:
+
         def field_fn(z, layer):
             return _log_ratio(evaluate(scenario, z, layer, terms=terms), "brittle", "ductile")
 
-        depth[same_layer] = _refine(envelope.depth[inner], envelope.depth[inner + 1],
-                                    envelope.layer[inner], field_fn)
+        depth[same_layer] = _refine(
+            envelope.depth[inner], envelope.depth[inner + 1], envelope.layer[inner], field_fn
+        )
     transitions = []
     for k, index in enumerate(j):
         upper, lower = envelope.layer[index], envelope.layer[index + 1]
         kind = BRITTLE_TO_DUCTILE if brittle_wins[index] else DUCTILE_TO_BRITTLE
         if same_layer[k]:
-            at = evaluate(scenario, depth[k:k + 1], np.array([upper]), terms=terms)
+            at = evaluate(scenario, depth[k : k + 1], np.array([upper]), terms=terms)
             temperature, stress = at["temperature"][0], at["strength"][0]
         else:
             temperature = envelope.temperature[index]
-            stress = envelope.strength[index + 1] if kind == BRITTLE_TO_DUCTILE else (
-                envelope.strength[index])
-        transitions.append(Transition(float(depth[k]), float(temperature), float(stress), kind,
-                                      names[upper], names[lower], not bool(same_layer[k])))
+            stress = (
+                envelope.strength[index + 1]
+                if kind == BRITTLE_TO_DUCTILE
+                else (envelope.strength[index])
+            )
+        transitions.append(
+            Transition(
+                float(depth[k]),
+                float(temperature),
+                float(stress),
+                kind,
+                names[upper],
+                names[lower],
+                not bool(same_layer[k]),
+            )
+        )
     return transitions
 
 
@@ -140,8 +158,9 @@ def goetze_depths(envelope: Envelope) -> list[float]:
 
     if np.any(same_layer):
         k = j[same_layer]
-        depth[same_layer] = _refine(envelope.depth[k], envelope.depth[k + 1],
-                                    envelope.layer[k], field_fn)
+        depth[same_layer] = _refine(
+            envelope.depth[k], envelope.depth[k + 1], envelope.layer[k], field_fn
+        )
     return [float(z) for z in depth]
 
 
@@ -158,8 +177,14 @@ def regime_bands(envelope: Envelope) -> list[Band]:
         top = 0.0 if start == 0 else 0.5 * (d[start - 1] + d[start])
         bottom = d[-1] if end == key.size else 0.5 * (d[end - 1] + d[end])
         if bottom > top:
-            bands.append(Band(float(top), float(bottom), MECHANISMS[envelope.mechanism[start]],
-                              names[envelope.layer[start]]))
+            bands.append(
+                Band(
+                    float(top),
+                    float(bottom),
+                    MECHANISMS[envelope.mechanism[start]],
+                    names[envelope.layer[start]],
+                )
+            )
     return bands
 
 
@@ -171,5 +196,12 @@ def faulting_base(envelope: Envelope) -> float | None:
     return None
 
 
-__all__ = ["Band", "Transition", "find_transitions", "goetze_depths", "regime_bands",
-           "faulting_base", "FRICTIONAL"]
+__all__ = [
+    "Band",
+    "Transition",
+    "find_transitions",
+    "goetze_depths",
+    "regime_bands",
+    "faulting_base",
+    "FRICTIONAL",
+]

@@ -119,8 +119,11 @@ class FlowLaw:
                 )
             factor = factor * grain_size ** (-self.grain_size_exponent)
         if self.needs_water:
-            what = "water fugacity (e.g. '500 MPa')" if self.water_form == "fugacity" else (
-                "OH content in H/10^6 Si (e.g. 1000)")
+            what = (
+                "water fugacity (e.g. '500 MPa')"
+                if self.water_form == "fugacity"
+                else ("OH content in H/10^6 Si (e.g. 1000)")
+            )
             if water is None:
                 raise RheologyError(
                     f"flow law {self.id!r} has a water exponent r = {self.water_exponent:g}; "
@@ -137,16 +140,27 @@ class FlowLaw:
         prefactor = self.prefactor(grain_size, water)
         if self.mechanism == "peierls":
             return creep.peierls_strain_rate(
-                stress, temperature, pressure, prefactor, self.n, self.Q, self.V,
-                self.peierls_stress, self.peierls_p, self.peierls_q, self.min_stress,
+                stress,
+                temperature,
+                pressure,
+                prefactor,
+                self.n,
+                self.Q,
+                self.V,
+                self.peierls_stress,
+                self.peierls_p,
+                self.peierls_q,
+                self.min_stress,
             )
-        return creep.power_law_strain_rate(stress, temperature, pressure, prefactor, self.n,
-                                           self.Q, self.V)
+        return creep.power_law_strain_rate(
+            stress, temperature, pressure, prefactor, self.n, self.Q, self.V
+        )
 
     def stress(self, strain_rate, temperature, pressure, grain_size=None, water=None):
         """Differential stress [Pa] that drives ``strain_rate`` [1/s] at T [K], pressure [Pa]."""
-        return creep.composite_stress(strain_rate, temperature, pressure,
-                                      [self.term(grain_size, water)]).stress
+        return creep.composite_stress(
+            strain_rate, temperature, pressure, [self.term(grain_size, water)]
+        ).stress
 
     def term(self, grain_size=None, water=None, scale=1.0):
         """The law as a :class:`rheology.physics.creep.CreepTerm` for the composite solver.
@@ -155,8 +169,16 @@ class FlowLaw:
         """
         prefactor = self.prefactor(grain_size, water) * scale
         if self.mechanism == "peierls":
-            return creep.CreepTerm.peierls(prefactor, self.n, self.Q, self.V, self.peierls_stress,
-                                           self.peierls_p, self.peierls_q, self.min_stress)
+            return creep.CreepTerm.peierls(
+                prefactor,
+                self.n,
+                self.Q,
+                self.V,
+                self.peierls_stress,
+                self.peierls_p,
+                self.peierls_q,
+                self.min_stress,
+            )
         return creep.CreepTerm.power_law(prefactor, self.n, self.Q, self.V)
 
 

@@ -66,8 +66,9 @@ def arrhenius_exponent(temperature, pressure, Q, V):
     )
 
 
-def power_law_strain_rate(stress, temperature, pressure, A, n, Q, V=0.0, grain_size=1.0, p=0.0,
-                          water=1.0, r=0.0):
+def power_law_strain_rate(
+    stress, temperature, pressure, A, n, Q, V=0.0, grain_size=1.0, p=0.0, water=1.0, r=0.0
+):
     """Strain rate of power-law creep (dislocation or diffusion creep).
 
     Parameters
@@ -114,14 +115,19 @@ def power_law_strain_rate(stress, temperature, pressure, A, n, Q, V=0.0, grain_s
     """
     exponent = arrhenius_exponent(temperature, pressure, Q, V)
     with np.errstate(divide="ignore"):
-        log_rate = (np.log(A) + np.asarray(n, float) * np.log(np.asarray(stress, float))
-                    - np.asarray(p, float) * np.log(grain_size)
-                    + np.asarray(r, float) * np.log(water) - exponent)
+        log_rate = (
+            np.log(A)
+            + np.asarray(n, float) * np.log(np.asarray(stress, float))
+            - np.asarray(p, float) * np.log(grain_size)
+            + np.asarray(r, float) * np.log(water)
+            - exponent
+        )
     return np.exp(log_rate)
 
 
-def power_law_stress(strain_rate, temperature, pressure, A, n, Q, V=0.0, grain_size=1.0, p=0.0,
-                     water=1.0, r=0.0):
+def power_law_stress(
+    strain_rate, temperature, pressure, A, n, Q, V=0.0, grain_size=1.0, p=0.0, water=1.0, r=0.0
+):
     """Differential stress [Pa] at which power-law creep runs at ``strain_rate``.
 
     The inverse of :func:`power_law_strain_rate` (same parameters and units):
@@ -137,15 +143,17 @@ def power_law_stress(strain_rate, temperature, pressure, A, n, Q, V=0.0, grain_s
     """
     strain_rate = _check_strain_rate(strain_rate)
     exponent = arrhenius_exponent(temperature, pressure, Q, V)
-    log_prefactor = (np.log(A) - np.asarray(p, float) * np.log(grain_size)
-                     + np.asarray(r, float) * np.log(water))
+    log_prefactor = (
+        np.log(A) - np.asarray(p, float) * np.log(grain_size) + np.asarray(r, float) * np.log(water)
+    )
     log_stress = (np.log(strain_rate) - log_prefactor + exponent) / np.asarray(n, float)
     with np.errstate(over="ignore"):
         return np.exp(log_stress)
 
 
-def peierls_strain_rate(stress, temperature, pressure, A, n, Q, V, peierls_stress, p, q,
-                        min_stress=0.0):
+def peierls_strain_rate(
+    stress, temperature, pressure, A, n, Q, V, peierls_stress, p, q, min_stress=0.0
+):
     """Strain rate of low-temperature (Peierls) plasticity.
 
     Parameters
@@ -249,9 +257,17 @@ class CreepTerm:
         A = np.asarray(A, float)
         if np.any(~(A > 0)):
             raise RheologyError(f"A: expected a pre-exponential factor > 0, got {A}")
-        return cls("peierls", A, np.asarray(n, float), np.asarray(Q, float),
-                   np.asarray(V, float), np.asarray(peierls_stress, float),
-                   np.asarray(p, float), np.asarray(q, float), np.asarray(min_stress, float))
+        return cls(
+            "peierls",
+            A,
+            np.asarray(n, float),
+            np.asarray(Q, float),
+            np.asarray(V, float),
+            np.asarray(peierls_stress, float),
+            np.asarray(p, float),
+            np.asarray(q, float),
+            np.asarray(min_stress, float),
+        )
 
     def prepare(self, temperature, pressure):
         """Per-point constants: (ln A - H/RT) for power laws; (ln A, H/RT) for Peierls."""
@@ -288,8 +304,11 @@ class CreepTerm:
         log_sp = np.log(self.peierls_stress) + 0.0 * a
         with np.errstate(divide="ignore", invalid="ignore"):
             # at and above sigma_P the rate is A sigma^n
-            beyond = np.where(self.n > 0, (log_target - a) / np.where(self.n > 0, self.n, 1.0),
-                              np.where(a >= log_target, -np.inf, np.inf))
+            beyond = np.where(
+                self.n > 0,
+                (log_target - a) / np.where(self.n > 0, self.n, 1.0),
+                np.where(a >= log_target, -np.inf, np.inf),
+            )
         return np.maximum(log_sp, beyond)
 
     def lower_bound(self, log_target, prepared):
@@ -357,8 +376,9 @@ def composite_stress(strain_rate, temperature, pressure, terms):
     if not terms:
         raise RheologyError("terms: expected at least one creep mechanism, got none")
     pressure = np.asarray(pressure, float)
-    shape = np.broadcast_shapes(strain_rate.shape, temperature.shape, pressure.shape,
-                                *(np.shape(t.A) for t in terms))
+    shape = np.broadcast_shapes(
+        strain_rate.shape, temperature.shape, pressure.shape, *(np.shape(t.A) for t in terms)
+    )
     log_target = np.broadcast_to(np.log(strain_rate), shape).ravel()
     T = np.broadcast_to(temperature, shape).ravel()
     P = np.broadcast_to(pressure, shape).ravel()
@@ -367,8 +387,9 @@ def composite_stress(strain_rate, temperature, pressure, terms):
     log_n = np.log(len(terms))
 
     hi = np.min([t.upper_bound(log_target, c) for t, c in zip(flat_terms, prepared)], axis=0)
-    lo = np.min([t.lower_bound(log_target - log_n, c) for t, c in zip(flat_terms, prepared)],
-                axis=0)
+    lo = np.min(
+        [t.lower_bound(log_target - log_n, c) for t, c in zip(flat_terms, prepared)], axis=0
+    )
     lo = np.maximum(np.minimum(lo, hi), _LOG_STRESS_FLOOR)
     s = hi.copy()
     if len(terms) > 1 or flat_terms[0].kind != "power":
@@ -378,8 +399,9 @@ def composite_stress(strain_rate, temperature, pressure, terms):
     with np.errstate(over="ignore"):
         stress = np.exp(s)
     stress = np.where(s <= _LOG_STRESS_FLOOR, 0.0, stress)
-    return CompositeResult(stress.reshape(shape), dominant.reshape(shape),
-                           log_rates.reshape((len(terms), *shape)))
+    return CompositeResult(
+        stress.reshape(shape), dominant.reshape(shape), log_rates.reshape((len(terms), *shape))
+    )
 
 
 _FIELDS = ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress")
@@ -414,8 +436,9 @@ def _solve(s, lo, hi, log_target, terms, prepared):
         sub_terms = [_subset(t, active) for t in terms]
         sub_prepared = [tuple(c[active] for c in pre) for pre in prepared]
         sa, la, ha, target = s[active], lo[active], hi[active], log_target[active]
-        values, slopes = zip(*(t.log_rate(sa, c, with_slope=True)
-                               for t, c in zip(sub_terms, sub_prepared)))
+        values, slopes = zip(
+            *(t.log_rate(sa, c, with_slope=True) for t, c in zip(sub_terms, sub_prepared))
+        )
         values = np.array(values)
         peak = np.max(values, axis=0)
         weights = np.exp(values - peak)

@@ -32,8 +32,10 @@ BYERLEE_HIGH = (0.6, 50e6)
 def check_regime(regime: str) -> str:
     """Return ``regime`` if it is an Andersonian regime, else raise a clear error."""
     if regime not in REGIMES:
-        raise RheologyError(f"faulting: {regime!r} is not a faulting regime; expected one of "
-                            + ", ".join(repr(r) for r in REGIMES))
+        raise RheologyError(
+            f"faulting: {regime!r} is not a faulting regime; expected one of "
+            + ", ".join(repr(r) for r in REGIMES)
+        )
     return regime
 
 
@@ -143,15 +145,18 @@ def byerlee_differential_stress(vertical_stress, pore_pressure, regime, mu_scale
     D. L. (1980). J. Geophys. Res. 85, 6248-6252.
     """
     effective = np.asarray(vertical_stress, float) - np.asarray(pore_pressure, float)
-    low = andersonian_differential_stress(effective, BYERLEE_LOW[0] * mu_scale, BYERLEE_LOW[1],
-                                          regime)
-    high = andersonian_differential_stress(effective, BYERLEE_HIGH[0] * mu_scale,
-                                           BYERLEE_HIGH[1], regime)
+    low = andersonian_differential_stress(
+        effective, BYERLEE_LOW[0] * mu_scale, BYERLEE_LOW[1], regime
+    )
+    high = andersonian_differential_stress(
+        effective, BYERLEE_HIGH[0] * mu_scale, BYERLEE_HIGH[1], regime
+    )
     return np.minimum(low, high)
 
 
-def frictional_strength(vertical_stress, pore_pressure, regime, mu=None, cohesion=0.0,
-                        mu_scale=1.0):
+def frictional_strength(
+    vertical_stress, pore_pressure, regime, mu=None, cohesion=0.0, mu_scale=1.0
+):
     """Frictional strength [Pa]: Byerlee (``mu=None``) or a constant mu with cohesion.
 
     ``mu_scale`` multiplies the friction coefficient(s) (1 = as given).
@@ -159,8 +164,9 @@ def frictional_strength(vertical_stress, pore_pressure, regime, mu=None, cohesio
     if mu is None:
         return byerlee_differential_stress(vertical_stress, pore_pressure, regime, mu_scale)
     effective = np.asarray(vertical_stress, float) - np.asarray(pore_pressure, float)
-    return andersonian_differential_stress(effective, mu * np.asarray(mu_scale, float),
-                                           cohesion, regime)
+    return andersonian_differential_stress(
+        effective, mu * np.asarray(mu_scale, float), cohesion, regime
+    )
 
 
 def principal_effective_stresses(vertical_effective_stress, differential_stress, regime):
