@@ -216,8 +216,16 @@ def pore_pressure(scenario: Scenario, depth, lithostatic, variation: Variation |
         return pressure.pore_pressure_from_ratio(lithostatic, model.ratio)
     if model.kind == "hydrostatic":
         return pressure.hydrostatic_pressure(depth) + 0.0 * lithostatic
+    thickness = [ly.thickness for ly in scenario.layers]
+    if variation is not None and variation.thickness is not None:
+        thickness = np.asarray(variation.thickness, float)
+    at_top = pressure.lithostatic_pressure(
+        np.full(np.shape(thickness)[:-1] + (1,), model.top_depth),
+        thickness,
+        [ly.density for ly in scenario.layers],
+    )
     return pressure.pore_pressure_overpressured(
-        depth, lithostatic, model.top_depth, model.ratio_below
+        depth, lithostatic, model.top_depth, model.ratio_below, at_top
     )
 
 

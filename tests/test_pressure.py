@@ -100,7 +100,9 @@ def test_overpressure_profile_hydrostatic_above_and_continuous_at_top():
     (hand arithmetic); 3 km lies between grid points here."""
     z = np.linspace(0.0, 10e3, 41)[:-1] + 10.0  # 10 m, 260 m, ... 3 km is off the grid
     sigma_v = lithostatic_pressure(z, [20e3], [2700.0])
-    pf = pore_pressure_overpressured(z, sigma_v, 3e3, 0.8)
+    pf = pore_pressure_overpressured(
+        z, sigma_v, 3e3, 0.8, lithostatic_pressure(3e3, [20e3], [2700.0])
+    )
     above = z <= 3e3
     np.testing.assert_allclose(pf[above], 1000.0 * 9.81 * z[above], rtol=ROUNDING_REL)
     # continuity: extrapolate the deep branch back to 3 km and compare with rho_w g z_t
@@ -118,7 +120,9 @@ def test_overpressure_across_a_density_interface_on_the_grid():
     132.435 MPa (5 km) and 912.330 MPa (30 km) of the two-layer test."""
     z = np.array([0.0, 5e3, 10e3, 30e3])
     sigma_v = lithostatic_pressure(z, [10e3, 25e3], [2700.0, 3300.0])
-    pf = pore_pressure_overpressured(z, sigma_v, 5e3, 0.6)
+    pf = pore_pressure_overpressured(
+        z, sigma_v, 5e3, 0.6, lithostatic_pressure(5e3, [10e3, 25e3], [2700.0, 3300.0])
+    )
     expected_30 = 1000 * 9.81 * 5e3 + 0.6 * (912.330e6 - 132.435e6)
     assert pf[3] == pytest.approx(expected_30, abs=HAND_P)
 
@@ -128,10 +132,11 @@ def test_overpressure_broadcasts_over_realisations():
     z = np.linspace(0.0, 8e3, 17)
     sigma_v = lithostatic_pressure(z, [10e3], [2600.0])
     tops, ratios = np.array([[1e3], [2.2e3], [6e3]]), np.array([[0.5], [0.7], [0.9]])
-    batched = pore_pressure_overpressured(z, sigma_v, tops, ratios)
+    at_tops = lithostatic_pressure(tops, [10e3], [2600.0])
+    batched = pore_pressure_overpressured(z, sigma_v, tops, ratios, at_tops)
     assert batched.shape == (3, z.size)
     for r in range(3):
-        single = pore_pressure_overpressured(z, sigma_v, tops[r, 0], ratios[r, 0])
+        single = pore_pressure_overpressured(z, sigma_v, tops[r, 0], ratios[r, 0], at_tops[r, 0])
         np.testing.assert_array_equal(batched[r], single)
 
 
@@ -200,23 +205,19 @@ Z = np.array([0.0, 1e3, 2e3])
             r"lithostatic: got -1000 Pa at index \(1,\); expected a pressure of zero or more",
         ),
         (
-            lambda: pore_pressure_overpressured(Z, Z * 3e4, 1e3, 1.2),
+            lambda: pore_pressure_overpressured(Z, Z * 3e4, 1e3, 1.2, 3e7),
             r"ratio_below: got 1.2; expected a pore-pressure ratio from 0 up to but not",
         ),
         (
-            lambda: pore_pressure_overpressured(Z[::-1], Z * 3e4, 1e3, 0.5),
-            r"depth: expected values strictly increasing along the last axis",
+            lambda: pore_pressure_overpressured(Z, Z * 3e4, 1e3, 0.5, -1.0),
+            r"lithostatic_at_top: got -1 Pa; expected a pressure of zero or more",
         ),
         (
-            lambda: pore_pressure_overpressured(Z + 500.0, Z * 3e4, 100.0, 0.5),
-            r"top_depth: got 100 m, above the shallowest depth point 500 m",
-        ),
-        (
-            lambda: pore_pressure_overpressured(Z, np.ones(4), 1e3, 0.5),
+            lambda: pore_pressure_overpressured(Z, np.ones(4), 1e3, 0.5, 3e7),
             r"lithostatic: shape \(4,\) does not match depth shape \(3,\)",
         ),
         (
-            lambda: pore_pressure_overpressured(Z, Z * 3e4, -1.0, 0.5),
+            lambda: pore_pressure_overpressured(Z, Z * 3e4, -1.0, 0.5, 3e7),
             r"top_depth: got -1 m; expected a depth of zero or more",
         ),
     ],

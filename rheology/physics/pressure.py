@@ -193,6 +193,7 @@ def pore_pressure_overpressured(
     lithostatic,
     top_depth,
     ratio_below,
+    lithostatic_at_top,
     water_density=WATER_DENSITY,
     gravity=GRAVITY,
 ) -> np.ndarray:
@@ -201,7 +202,7 @@ def pore_pressure_overpressured(
     Parameters
     ----------
     depth : array_like
-        Depth [m], strictly increasing along the last axis; shape ``(nz,)`` or ``(..., nz)``.
+        Depth [m]; shape ``(nz,)`` or ``(..., nz)``.
     lithostatic : array_like
         Vertical stress sigma_v on the same grid [Pa].
     top_depth : float or array_like
@@ -209,6 +210,8 @@ def pore_pressure_overpressured(
     ratio_below : float or array_like
         Fraction of each further increment of overburden carried by the pore fluid below
         ``top_depth``, in [0, 1).
+    lithostatic_at_top : float or array_like
+        Vertical stress sigma_v(z_t) at ``top_depth`` [Pa] (from :func:`lithostatic_pressure`).
     water_density : float or array_like, optional
         Pore-water density rho_w [kg m^-3].
     gravity : float or array_like, optional
@@ -224,9 +227,7 @@ def pore_pressure_overpressured(
     ``P_f = rho_w g z`` for ``z <= z_t`` and
     ``P_f = rho_w g z_t + lambda_b (sigma_v(z) - sigma_v(z_t))`` below, a profile that is
     continuous at ``z_t``; it is steeper than hydrostatic when ``lambda_b`` exceeds the
-    hydrostatic ratio ``rho_w / rho_r`` (it is not forced to). ``sigma_v(z_t)`` is
-    interpolated linearly between the two grid points around ``z_t``: exact when ``z_t``
-    is a grid point or both neighbours lie in the same density layer. The model is our
+    hydrostatic ratio ``rho_w / rho_r`` (it is not forced to). The model is our
     own composition of the hydrostatic gradient and the Hubbert & Rubey (1959) ratio.
     """
     z = depth_array(depth)
@@ -235,41 +236,18 @@ def pore_pressure_overpressured(
     lam = _ratio(ratio_below, "ratio_below")
     rho_w = checked(water_density, "water_density", "kg m^-3", positive=True, what="density")
     g = _gravity(gravity)
-    z, sigma_v = np.atleast_1d(z), np.atleast_1d(sigma_v)
+    sigma_top = checked(
+        lithostatic_at_top, "lithostatic_at_top", "Pa", nonnegative=True, what="pressure"
+    )
     try:
-        z, sigma_v = np.broadcast_arrays(z, sigma_v)
-        lead = np.broadcast_shapes(z.shape[:-1] + (1,), top.shape)
+        shape = np.broadcast_shapes(z.shape, sigma_v.shape, top.shape, sigma_top.shape)
     except ValueError:
         raise RheologyError(
             f"lithostatic: shape {np.shape(lithostatic)} does not match depth shape "
             f"{np.shape(depth)} (or top_depth shape {top.shape}); expected sigma_v on the "
             "depth grid"
         ) from None
-    shape = lead[:-1] + z.shape[-1:]
-    z, sigma_v = np.broadcast_to(z, shape), np.broadcast_to(sigma_v, shape)
-    top = np.broadcast_to(top, lead)
-    if z.shape[-1] > 1 and np.any(np.diff(z, axis=-1) <= 0):
-        raise RheologyError(
-            "depth: expected values strictly increasing along the last axis (needed to "
-            "interpolate the overburden at top_depth)"
-        )
-    if np.any(top < z[..., :1]):
-        index = tuple(int(i) for i in np.argwhere(top < z[..., :1])[0])
-        raise RheologyError(
-            f"top_depth: got {float(top[index]):g} m, above the shallowest depth point "
-            f"{float(z[..., :1][index]):g} m; expected a top_depth within the depth grid"
-        )
-    sigma_top = _interpolate_at(z, sigma_v, top)
+    z = np.broadcast_to(z, shape)
     hydrostatic = rho_w * g * z  # P_h = rho_w g z
     below = rho_w * g * top + lam * (sigma_v - sigma_top)  # overpressure
     return np.array(np.where(z <= top, hydrostatic, below))
-
-
-def _interpolate_at(z: np.ndarray, values: np.ndarray, at: np.ndarray) -> np.ndarray:
-    """Linear interpolation of ``values(z)`` at ``at`` (shape ``(..., 1)``), batched."""
-    if z.shape[-1] == 1:
-        return values[..., :1]
-    i = np.clip(np.sum(z <= at, axis=-1, keepdims=True) - 1, 0, z.shape[-1] - 2)
-    z0, z1 = np.take_along_axis(z, i, -1), np.take_along_axis(z, i + 1, -1)
-    v0, v1 = np.take_along_axis(values, i, -1), np.take_along_axis(values, i + 1, -1)
-    return v0 + (v1 - v0) * (at - z0) / (z1 - z0)
