@@ -310,13 +310,36 @@ def _run_envelope(args, out, err) -> int:
 def _add_point(subparsers) -> None:
     parser = subparsers.add_parser(
         "point",
-        help="which mechanism governs at one depth, and what a load does there",
+        help="which mechanism governs at one depth (or T and P), and what a load does there",
         description="Report the governing mechanism and the brittle and ductile strengths "
-        "at one depth; with --stress and --duration, say whether that load "
-        "stays elastic, breaks the rock or makes it flow.",
+        "at one depth of a scenario, or for a rock at given temperature and pressure "
+        "(--rock, --temperature, --pressure, without a scenario); with --stress and "
+        "--duration, say whether that load stays elastic, breaks the rock or makes it flow.",
     )
-    _add_scenario_argument(parser)
-    parser.add_argument("--depth", required=True, help="depth with units, e.g. '12 km'")
+    parser.add_argument(
+        "scenario",
+        metavar="SCENARIO.toml",
+        nargs="?",
+        help="scenario file (TOML); omit it to give --rock, --temperature and --pressure instead",
+    )
+    parser.add_argument("--depth", help="depth with units, e.g. '12 km' (with a scenario)")
+    parser.add_argument("--rock", help="rock id from `rheology rocks` (without a scenario)")
+    parser.add_argument("--temperature", help="temperature, e.g. '450 degC'")
+    parser.add_argument("--pressure", help="lithostatic pressure, e.g. '300 MPa'")
+    parser.add_argument(
+        "--faulting",
+        choices=["thrust", "strike-slip", "normal"],
+        default="thrust",
+        help="faulting regime without a scenario",
+    )
+    parser.add_argument(
+        "--pore-pressure-ratio",
+        type=float,
+        default=0.0,
+        help="pore pressure / lithostatic without a scenario (default 0)",
+    )
+    parser.add_argument("--grain-size", help="grain size, e.g. '1 mm', if the rock needs it")
+    parser.add_argument("--water-fugacity", help="water fugacity, e.g. '500 MPa', if needed")
     _add_strain_rate(parser)
     parser.add_argument("--stress", help="applied differential stress, e.g. '150 MPa'")
     parser.add_argument("--duration", help="how long the load is held, e.g. '1000 yr'")
@@ -324,13 +347,54 @@ def _add_point(subparsers) -> None:
     parser.set_defaults(handler=_run_point)
 
 
+def _point_at_conditions(args, stress, duration):
+    from rheology.answers.point import conditions_answer
+    from rheology.library.tables import get_rock
+    from rheology.units import to_kelvin
+
+    missing = [f"--{n}" for n in ("rock", "temperature", "pressure") if getattr(args, n) is None]
+    if missing:
+        raise CommandError(
+            "point: give a SCENARIO.toml with --depth, or "
+            + ", ".join(missing)
+            + " for a rock at given conditions"
+        )
+    rate = _strain_rate(args.strain_rate)
+    if rate is None:
+        raise CommandError("--strain-rate: needed without a scenario, e.g. '1e-15 1/s'")
+    grain = (
+        None
+        if args.grain_size is None
+        else _quantity(args.grain_size, "mm", "--grain-size", positive=True)
+    )
+    water = (
+        None
+        if args.water_fugacity is None
+        else _quantity(args.water_fugacity, "MPa", "--water-fugacity", positive=True)
+    )
+    if _is_bare_number(args.temperature):
+        raise CommandError(
+            f"--temperature: {args.temperature!r} has no units; give e.g. '{args.temperature} degC'"
+        )
+    return conditions_answer(
+        get_rock(args.rock),
+        to_kelvin(args.temperature, "--temperature"),
+        _quantity(args.pressure, "MPa", "--pressure", nonnegative=True),
+        rate,
+        faulting=args.faulting,
+        pore_pressure_ratio=args.pore_pressure_ratio,
+        grain_size=grain,
+        water=water,
+        stress=stress,
+        duration=duration,
+    )
+
+
 def _run_point(args, out, err) -> int:
     from rheology.answers.point import point_answer
     from rheology.answers.report import CAUTION
     from rheology.outputs import point_to_dict
 
-    scenario = _load(args.scenario)
-    depth = _quantity(args.depth, "km", "--depth", nonnegative=True)
     stress = duration = None
     if (args.stress is None) != (args.duration is None):
         raise CommandError(
@@ -339,17 +403,25 @@ def _run_point(args, out, err) -> int:
     if args.stress is not None:
         stress = _quantity(args.stress, "MPa", "--stress", positive=True)
         duration = _quantity(args.duration, "yr", "--duration", positive=True)
-    answer = point_answer(
-        scenario,
-        depth,
-        strain_rate=_strain_rate(args.strain_rate),
-        stress=stress,
-        duration=duration,
-    )
+    if args.scenario is None:
+        answer = _point_at_conditions(args, stress, duration)
+        title = f"{answer.rock} at given conditions"
+    else:
+        if args.depth is None:
+            raise CommandError("--depth: needed with a scenario, e.g. --depth '12 km'")
+        scenario = _load(args.scenario)
+        title = scenario.title
+        answer = point_answer(
+            scenario,
+            _quantity(args.depth, "km", "--depth", nonnegative=True),
+            strain_rate=_strain_rate(args.strain_rate),
+            stress=stress,
+            duration=duration,
+        )
     if args.json:
         _write_json(out, point_to_dict(answer))
         return OK
-    lines = [scenario.title, answer.sentence(), ""]
+    lines = [title, answer.sentence(), ""]
     rows = [
         ("layer", f"{answer.layer} ({answer.rock})"),
         ("temperature", f"{answer.temperature - 273.15:.1f} degC"),

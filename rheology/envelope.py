@@ -26,7 +26,8 @@ MECHANISMS = (
     "low-temperature plasticity",
 )
 FRICTIONAL, SEMI_BRITTLE = 0, 1
-_CREEP_CODE = {"dislocation": 2, "diffusion": 3, "peierls": 4}
+#: Mechanism code of each flow-law mechanism.
+CREEP_CODES = {"dislocation": 2, "diffusion": 3, "peierls": 4}
 
 
 @dataclass(frozen=True)
@@ -332,7 +333,7 @@ def evaluate(
         result = creep.composite_stress(
             pick(strain_rate), pick(temperature), pick(lithostatic), layer_terms_at
         )
-        codes = np.array([_CREEP_CODE[law.mechanism] for law in layer_def.rock.laws], np.int8)
+        codes = np.array([CREEP_CODES[law.mechanism] for law in layer_def.rock.laws], np.int8)
         where = (Ellipsis, at) if at.ndim == 1 else np.broadcast_to(at, shape)
         ductile[where] = result.stress
         creep_code[where] = codes[result.dominant]

@@ -399,7 +399,7 @@ def point_to_dict(answer) -> dict[str, Any]:
             "reason": verdict.reason,
         }
     result = {
-        "depth_km": answer.depth / _KM,
+        "depth_km": None if answer.depth is None else answer.depth / _KM,
         "layer": answer.layer,
         "rock": answer.rock,
         "temperature_C": answer.temperature - ZERO_CELSIUS,

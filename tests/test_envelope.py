@@ -353,3 +353,24 @@ def test_bad_scenario_values():
         Layer("mantle", 10e3, 3300.0, get_rock("olivine-dry-composite"))
     with pytest.raises(RheologyError, match="pore_pressure_ratio: got 1.2"):
         PorePressure("ratio", 1.2)
+
+
+def test_answer_at_given_conditions_equals_answer_at_the_depth_with_them():
+    """A point answer at (T, P) must equal the answer at the depth of a column where those
+    conditions hold (consistency of the two entry points; no new physics)."""
+    from rheology.answers.point import conditions_answer
+
+    scenario = three_layers(regime="thrust")
+    at_depth = point_answer(scenario, 12e3)
+    given = conditions_answer(
+        get_rock("quartzite-wet"),
+        at_depth.temperature,
+        at_depth.lithostatic,
+        scenario.strain_rate,
+        faulting="thrust",
+        pore_pressure_ratio=0.37,
+    )
+    assert given.brittle == pytest.approx(at_depth.brittle, rel=1e-12)
+    assert given.ductile == pytest.approx(at_depth.ductile, rel=1e-12)
+    assert given.mechanism == at_depth.mechanism and given.depth is None
+    assert "At " in given.sentence() and "MPa" in given.sentence()

@@ -6,9 +6,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from rheology.envelope import MECHANISMS, evaluate
+from rheology.envelope import CREEP_CODES, FRICTIONAL, MECHANISMS, SEMI_BRITTLE, evaluate
 from rheology.errors import RheologyError
-from rheology.model import Layer, Scenario
+from rheology.library.flowlaw import Rock
+from rheology.model import Friction, Layer, Scenario
+from rheology.physics import creep, friction
 from rheology.physics.viscosity import effective_viscosity
 
 #: A load lasting less than this fraction of the Maxwell time counts as elastic.
@@ -31,9 +33,12 @@ class LoadVerdict:
 
 @dataclass(frozen=True)
 class PointAnswer:
-    """Governing mechanism and margins at one depth (SI: m, K, Pa, 1/s)."""
+    """Governing mechanism and margins at one depth, or at given conditions (SI).
 
-    depth: float
+    ``depth`` [m] is None for an answer at given temperature and pressure.
+    """
+
+    depth: float | None
     layer: str
     rock: str
     temperature: float
@@ -56,8 +61,13 @@ class PointAnswer:
         """The answer in one plain sentence."""
         weaker, stronger = sorted((self.brittle, self.ductile))
         which = "friction" if self.brittle <= self.ductile else "creep"
+        where = (
+            f"{self.lithostatic / 1e6:.0f} MPa"
+            if self.depth is None
+            else f"{self.depth / 1e3:.2f} km"
+        )
         text = (
-            f"At {self.depth / 1e3:.2f} km ({self.temperature - 273.15:.0f} degC, "
+            f"At {where} ({self.temperature - 273.15:.0f} degC, "
             f"{self.rock}): {self.mechanism} governs; {which} needs "
             f"{weaker / 1e6:.1f} MPa, {self.margin:.2g} times less than the other "
             f"mechanism ({stronger / 1e6:.3g} MPa)."
@@ -213,6 +223,85 @@ def point_answer(
         ductile,
         MECHANISMS[at["mechanism"][0]],
         float(margin),
+        by_law,
+        load,
+    )
+
+
+def conditions_answer(
+    rock: Rock,
+    temperature: float,
+    pressure: float,
+    strain_rate: float,
+    *,
+    faulting: str = "thrust",
+    pore_pressure_ratio: float = 0.0,
+    friction_law: Friction | None = None,
+    grain_size: float | None = None,
+    water: float | None = None,
+    shear_modulus: float = 3.0e10,
+    stress: float | None = None,
+    duration: float | None = None,
+) -> PointAnswer:
+    """Which mechanism governs ``rock`` at given temperature [K] and pressure [Pa].
+
+    The pressure is taken as the vertical (lithostatic) stress of the Andersonian regime,
+    pore pressure as ``pore_pressure_ratio`` x pressure; otherwise as :func:`point_answer`.
+    """
+    layer = Layer(
+        "conditions",
+        1.0,
+        1.0,
+        rock,
+        grain_size=grain_size,
+        water=water,
+        shear_modulus=shear_modulus,
+        rock_id=rock.id,
+    )
+    friction_law = friction_law or Friction()
+    if not (np.isfinite(pressure) and pressure >= 0):
+        raise RheologyError(f"pressure: {pressure!r} Pa; expected a pressure >= 0")
+    if not (0 <= pore_pressure_ratio < 1):
+        raise RheologyError(f"pore_pressure_ratio: {pore_pressure_ratio!r}; expected 0 to < 1")
+    fluid = pore_pressure_ratio * pressure
+    brittle = float(
+        friction.frictional_strength(
+            pressure, fluid, faulting, friction_law.mu, friction_law.cohesion
+        )
+    )
+    terms = [law.term(grain_size, water) for law in rock.laws]
+    result = creep.composite_stress(strain_rate, temperature, pressure, terms)
+    ductile = float(result.stress)
+    if brittle <= ductile:
+        mechanism = MECHANISMS[FRICTIONAL]
+    elif ductile > pressure - fluid:
+        mechanism = MECHANISMS[SEMI_BRITTLE]
+    else:
+        mechanism = MECHANISMS[CREEP_CODES[rock.laws[int(result.dominant)].mechanism]]
+    by_law = {
+        law.id: float(law.stress(strain_rate, temperature, pressure, grain_size, water))
+        for law in rock.laws
+    }
+    weaker, stronger = sorted((brittle, ductile))
+    load = None
+    if (stress is None) != (duration is None):
+        raise RheologyError(
+            "stress and duration: give both (the load and how long it lasts), or neither"
+        )
+    if stress is not None:
+        load = judge_load(layer, brittle, ductile, temperature, pressure, stress, duration)
+    return PointAnswer(
+        None,
+        "given conditions",
+        rock.name,
+        float(temperature),
+        float(pressure),
+        fluid,
+        float(strain_rate),
+        brittle,
+        ductile,
+        mechanism,
+        stronger / weaker if weaker > 0 else float("inf"),
         by_law,
         load,
     )
