@@ -194,35 +194,48 @@ def point_answer(
     at = evaluate(scenario, np.array([float(depth)]), np.array([index]))
     temperature, lithostatic = float(at["temperature"][0]), float(at["lithostatic"][0])
     brittle, ductile = float(at["brittle"][0]), float(at["ductile"][0])
-    by_law = {
-        law.id: float(
-            law.stress(
-                scenario.strain_rate, temperature, lithostatic, layer.grain_size, layer.water
-            )
-        )
-        for law in layer.rock.laws
-    }
-    weaker, stronger = sorted((brittle, ductile))
-    margin = stronger / weaker if weaker > 0 else np.inf
-    load = None
+    return _answer(
+        float(depth),
+        layer,
+        layer.name,
+        (temperature, lithostatic, float(at["pore_pressure"][0]), scenario.strain_rate),
+        brittle,
+        ductile,
+        MECHANISMS[at["mechanism"][0]],
+        stress,
+        duration,
+    )
+
+
+def _answer(depth, layer, where, conditions, brittle, ductile, mechanism, stress, duration):
+    """Assemble a :class:`PointAnswer`: creep of each law alone, margin, load verdict."""
+    temperature, lithostatic, fluid, strain_rate = conditions
     if (stress is None) != (duration is None):
         raise RheologyError(
             "stress and duration: give both (the load and how long it lasts), or neither"
         )
+    by_law = {
+        law.id: float(
+            law.stress(strain_rate, temperature, lithostatic, layer.grain_size, layer.water)
+        )
+        for law in layer.rock.laws
+    }
+    weaker, stronger = sorted((brittle, ductile))
+    load = None
     if stress is not None:
         load = judge_load(layer, brittle, ductile, temperature, lithostatic, stress, duration)
     return PointAnswer(
-        float(depth),
-        layer.name,
+        depth,
+        where,
         layer.rock.name,
-        temperature,
-        lithostatic,
-        float(at["pore_pressure"][0]),
-        scenario.strain_rate,
+        float(temperature),
+        float(lithostatic),
+        float(fluid),
+        float(strain_rate),
         brittle,
         ductile,
-        MECHANISMS[at["mechanism"][0]],
-        float(margin),
+        mechanism,
+        float(stronger / weaker) if weaker > 0 else float("inf"),
         by_law,
         load,
     )
@@ -278,30 +291,14 @@ def conditions_answer(
         mechanism = MECHANISMS[SEMI_BRITTLE]
     else:
         mechanism = MECHANISMS[CREEP_CODES[rock.laws[int(result.dominant)].mechanism]]
-    by_law = {
-        law.id: float(law.stress(strain_rate, temperature, pressure, grain_size, water))
-        for law in rock.laws
-    }
-    weaker, stronger = sorted((brittle, ductile))
-    load = None
-    if (stress is None) != (duration is None):
-        raise RheologyError(
-            "stress and duration: give both (the load and how long it lasts), or neither"
-        )
-    if stress is not None:
-        load = judge_load(layer, brittle, ductile, temperature, pressure, stress, duration)
-    return PointAnswer(
+    return _answer(
         None,
+        layer,
         "given conditions",
-        rock.name,
-        float(temperature),
-        float(pressure),
-        fluid,
-        float(strain_rate),
+        (temperature, pressure, fluid, strain_rate),
         brittle,
         ductile,
         mechanism,
-        stronger / weaker if weaker > 0 else float("inf"),
-        by_law,
-        load,
+        stress,
+        duration,
     )
