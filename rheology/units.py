@@ -156,3 +156,38 @@ def _show(quantity: pint.Quantity) -> str:
 def format_quantity(value: float, unit: str, digits: int = 3) -> str:
     """Format an SI magnitude in ``unit`` for display, e.g. ``format_quantity(1.5e4, 'km')``."""
     return f"{Q_(value, Q_(1, unit).to_base_units().units).to(unit).magnitude:.{digits}g} {unit}"
+
+
+#: Exponents of A's units may differ from n, p, r by rounding of fractional exponents only.
+_EXPONENT_TOLERANCE = 1e-9
+
+
+def prefactor_to_si(quantity: pint.Quantity, n: float, p: float = 0.0, r: float = 0.0) -> float:
+    """A flow law's pre-factor in SI [Pa^-(n+r) m^p s^-1], after checking its units.
+
+    A law edot = A sigma^n d^-p f^r (stress and fugacity as pressures, grain size as a
+    length) needs A in [pressure]^-(n+r) [length]^p [time]^-1, in any pressure and length
+    units (MPa, GPa, um...). A pressure is M L^-1 T^-2, so P^a L^b T^c is
+    M^a L^(b - a) T^(c - 2a): the exponents follow from the mass, length and time ones.
+
+    Raises
+    ------
+    RheologyError
+        The units do not match n, p and r (the message says what they are and need).
+    """
+    dims = quantity.dimensionality
+    a = float(dims.get("[mass]", 0.0))
+    b = float(dims.get("[length]", 0.0)) + a
+    c = float(dims.get("[time]", 0.0)) + 2.0 * a
+    rebuilt = Q_(1.0, ureg.Pa**a * ureg.m**b * ureg.s**c).dimensionality
+    need = -(n + r)
+    if rebuilt != dims or any(
+        abs(x - y) > _EXPONENT_TOLERANCE for x, y in ((a, need), (b, p), (c, -1.0))
+    ):
+        example = f"MPa^{need:g}" + (f" um^{p:g}" if p else "") + " s^-1"
+        raise RheologyError(
+            f"units of A are [pressure]^{a:g} [length]^{b:g} [time]^{c:g}, but n = {n:g}, "
+            f"p = {p:g} and r = {r:g} need [pressure]^{need:g} [length]^{p:g} [time]^-1, "
+            f"e.g. {example!r}"
+        )
+    return float(quantity.to(ureg.Pa**need * ureg.m**p / ureg.s).magnitude)

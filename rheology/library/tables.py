@@ -28,7 +28,7 @@ from rheology.library.flowlaw import (
     Rock,
     RockProperties,
 )
-from rheology.units import Q_, as_quantity, ureg
+from rheology.units import Q_, as_quantity, prefactor_to_si
 
 FLOW_LAWS_FILE = "flow_laws.toml"
 ROCKS_FILE = "rocks.toml"
@@ -259,20 +259,6 @@ def _read_rows(path: pathlib.Path, array: str) -> list[_Row]:
 # ------------------------------------------------------------------------ flow laws
 
 
-def _dimension_exponents(quantity) -> tuple[float, float, float]:
-    """Pressure, length and time exponents (a, p, t) of a quantity of dimension P^a L^p T^t.
-
-    A pressure is M L^-1 T^-2, so P^a L^p T^t has M^a L^(p - a) T^(t - 2a); the three
-    exponents follow from the mass, length and time exponents. Other base dimensions
-    must be absent (checked by the caller via a round trip).
-    """
-    dims = quantity.dimensionality
-    a = float(dims.get("[mass]", 0.0))
-    p = float(dims.get("[length]", 0.0)) + a
-    t = float(dims.get("[time]", 0.0)) + 2.0 * a
-    return a, p, t
-
-
 def _prefactor(row: _Row, n: float, p: float, r_eff: float) -> tuple[float, str]:
     """A converted to SI [Pa^-(n+r_eff) m^p s^-1] and A as published."""
     data = row.data
@@ -305,24 +291,13 @@ def _prefactor(row: _Row, n: float, p: float, r_eff: float) -> tuple[float, str]
             raise row.error("A_units", _strip_field(str(exc), "A_units")) from None
         quantity = 10.0**log10_a * unit
         published = f"10^{log10_a:g} {units_text}"
-    a_exp = n + r_eff
-    expected = Q_(1.0, ureg.Pa ** (-a_exp) * ureg.m**p / ureg.s)
-    got_pressure, got_length, got_time = _dimension_exponents(quantity)
-    rebuilt = Q_(1.0, ureg.Pa**got_pressure * ureg.m**got_length * ureg.s**got_time)
-    same = rebuilt.dimensionality == quantity.dimensionality and all(
-        abs(x - y) < _EXPONENT_TOLERANCE
-        for x, y in ((got_pressure, -a_exp), (got_length, p), (got_time, -1.0))
-    )
-    if not same:
-        example = f"MPa^{-a_exp:g}" + (f" um^{p:g}" if p else "") + " s^-1"
+    try:
+        value = prefactor_to_si(quantity, n, p, r_eff)
+    except RheologyError as exc:
         raise row.error(
             column,
-            f"units of A in {units_text!r} are [pressure]^{got_pressure:g} "
-            f"[length]^{got_length:g} [time]^{got_time:g}, but n = {n:g}, p = {p:g} and "
-            f"r = {r_eff:g} (r counts only for water_form 'fugacity') need "
-            f"[pressure]^{-a_exp:g} [length]^{p:g} [time]^-1, e.g. {example!r}",
-        )
-    value = float(quantity.to(expected.units).magnitude)
+            f"{units_text!r}: {exc} (r counts only for water_form 'fugacity')",
+        ) from None
     if not math.isfinite(value) or not value > 0:
         raise row.error(column, f"A must be a finite number > 0, got {published!r}")
     return value, published
