@@ -769,10 +769,9 @@ def test_inline_law_with_a_units_inconsistent_with_n():
     data["layers"][0]["dislocation"]["A"] = "1.1e-4 MPa^-3 s^-1"
     with pytest.raises(
         ScenarioError,
-        match=r"^layers\[0\]\.dislocation\.A: units of A in "
-        r"'1\.1e-4 MPa\^-3 s\^-1' are not consistent with "
-        r"n = 4 and p = 0: expected \[pressure\]\^-4 "
-        r"\[length\]\^0 \[time\]\^-1",
+        match=r"^layers\[0\]\.dislocation\.A: '1\.1e-4 MPa\^-3 s\^-1': units of A are "
+        r"\[pressure\]\^-3 \[length\]\^0 \[time\]\^-1, but n = 4, p = 0 and r = 0 "
+        r"need \[pressure\]\^-4 \[length\]\^0 \[time\]\^-1",
     ):
         scenario_from_mapping(data)
 
