@@ -658,7 +658,15 @@ def _run_app(args, out, err) -> int:
         raise CommandError(
             "app: the front end (ui/app.py) is not installed with this copy of rheology"
         )
-    command = [sys.executable, "-m", "streamlit", "run", str(app)]
+    command = [
+        sys.executable,
+        "-m",
+        "streamlit",
+        "run",
+        str(app),
+        "--client.toolbarMode",
+        "minimal",
+    ]
     try:
         return subprocess.call(command)
     except OSError as exc:

@@ -438,7 +438,7 @@ def test_app_launches_streamlit_on_the_front_end(capsys, tmp_path, monkeypatch):
     monkeypatch.setattr(cli.subprocess, "call", lambda command: calls.append(command) or 0)
     code, _, _ = run(capsys, "app")
     assert code == 0
-    assert calls == [[sys.executable, "-m", "streamlit", "run", str(app)]]
+    assert calls[0][:5] == [sys.executable, "-m", "streamlit", "run", str(app)]
 
 
 def test_app_missing_front_end_is_an_error_line(capsys, monkeypatch):
