@@ -675,8 +675,23 @@ def _run_app(args, out, err) -> int:
 
 # ------------------------------------------------------------------------- parser
 
+
 #: Functions that each register one subcommand (subparser + ``handler`` default).
-COMMANDS: list[Callable] = [_add_envelope, _add_point, _add_rocks, _add_law, _add_demo, _add_app]
+def _add_uncertainty_and_sites(subparsers) -> None:
+    from rheology.uncertainty import commands
+
+    commands.register(subparsers)
+
+
+COMMANDS: list[Callable] = [
+    _add_envelope,
+    _add_point,
+    _add_rocks,
+    _add_law,
+    _add_demo,
+    _add_uncertainty_and_sites,
+    _add_app,
+]
 
 
 def build_parser() -> argparse.ArgumentParser:
