@@ -317,54 +317,6 @@ def case_creep(quick: bool) -> dict:
     }
 
 
-def case_prototype(quick: bool) -> dict:
-    """The Monte Carlo case with the lazily compacted creep iteration of bench_prototype."""
-    import bench_prototype
-
-    from rheology.envelope import Variation
-
-    scenario = _demo(80.0)
-    depth, layer = depth_grid(scenario)
-    size = 256
-    rng = np.random.default_rng(4)
-    variation = Variation(
-        size=size,
-        strain_rate=10 ** rng.uniform(-16, -14, size),
-        geotherm={"surface_heat_flow": rng.normal(0.065, 0.005, size)},
-    )
-    repeats = 7 if quick else 25
-    base, _ = _median_time(lambda: evaluate(scenario, depth, layer, variation=variation), repeats)
-    reference = evaluate(scenario, depth, layer, variation=variation)
-    with bench_prototype.patched():
-        lazy, _ = _median_time(
-            lambda: evaluate(scenario, depth, layer, variation=variation), repeats
-        )
-        changed = evaluate(scenario, depth, layer, variation=variation)
-    same = all(np.array_equal(reference[k], changed[k]) for k in reference)
-    with bench_prototype.patched(bench_prototype.solve_accepting):
-        accepting, _ = _median_time(
-            lambda: evaluate(scenario, depth, layer, variation=variation), repeats
-        )
-        loose = evaluate(scenario, depth, layer, variation=variation)
-    deviation = float(np.max(np.abs(loose["ductile"] / reference["ductile"] - 1.0)))
-    return {
-        "case": "prototype: creep iteration",
-        "size": f"{size} x {depth.size} nodes",
-        "time": accepting,
-        "extra": f"evaluate() now {base * 1e3:.1f} ms; lazy compaction {lazy * 1e3:.1f} ms "
-        f"({100 * (1 - lazy / base):.0f}% less, identical results: {same}); plus accepting "
-        f"a Newton step from a residual < 1e-5 {accepting * 1e3:.1f} ms "
-        f"({100 * (1 - accepting / base):.0f}% less, largest relative change of creep "
-        f"strength {deviation:.1e})",
-        "traced_mb": math.nan,
-        "rss_mb": _rss_mb(),
-        "scalar": math.nan,
-        "bare": math.nan,
-        "target": math.nan,
-        "target_text": "for the lead",
-    }
-
-
 CASES = {
     "envelope": case_envelope,
     "montecarlo": case_montecarlo,
@@ -373,7 +325,6 @@ CASES = {
     "sites2": case_sites2,
     "sites500": case_sites_coarse,
     "creep": case_creep,
-    "prototype": case_prototype,
 }
 
 

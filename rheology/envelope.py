@@ -160,7 +160,7 @@ def geotherm_profile(scenario: Scenario, depth, variation: Variation | None = No
             thickness = variation.thickness
     v = values
     if g.kind == "linear":
-        conductivity = v["conductivity"] or layers[0].conductivity
+        conductivity = layers[0].conductivity if v["conductivity"] is None else v["conductivity"]
         profile = geotherm.linear(depth, v["surface_temperature"], v["gradient"], conductivity)
     elif g.kind == "layered-steady":
         profile = geotherm.layered_steady(
@@ -270,12 +270,15 @@ def _frictional(scenario, lithostatic, fluid, variation):
             lithostatic, fluid, scenario.faulting, f.mu, f.cohesion, mu_scale=scale
         )
     regimes = np.asarray(regimes)
-    out = np.zeros(np.broadcast_shapes(np.shape(lithostatic), (regimes.size, 1)))
-    for regime in np.unique(regimes):
-        strength = friction.frictional_strength(
-            lithostatic, fluid, str(regime), f.mu, f.cohesion, mu_scale=scale
+    shape = np.broadcast_shapes(np.shape(lithostatic), np.shape(fluid), (regimes.size, 1))
+    lithostatic, fluid = np.broadcast_to(lithostatic, shape), np.broadcast_to(fluid, shape)
+    scale = np.broadcast_to(scale, (regimes.size, 1))
+    out = np.empty(shape)
+    for regime in np.unique(regimes):  # each realisation's rows, once
+        rows = regimes == regime
+        out[rows] = friction.frictional_strength(
+            lithostatic[rows], fluid[rows], str(regime), f.mu, f.cohesion, mu_scale=scale[rows]
         )
-        out = np.where((regimes == regime)[:, None], strength, out)
     return out
 
 

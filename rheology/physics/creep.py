@@ -425,17 +425,34 @@ def _subset(term, index):
 
 
 def _solve(s, lo, hi, log_target, terms, prepared):
-    """Bracketed Newton iteration in ln(stress) on the active (unconverged) points."""
-    active = np.flatnonzero(np.isfinite(hi) & (hi > lo))
+    """Bracketed Newton iteration in ln(stress) on the unconverged points.
+
+    The working set (parameters gathered for the points still iterating) is compacted
+    only when fewer than half of its points are still live, so each step does not copy
+    every array again.
+    """
+    work = np.flatnonzero(np.isfinite(hi) & (hi > lo))
     s[np.isinf(hi)] = np.inf
-    sub_terms = terms
-    sub_prepared = prepared
+    if work.size == s.size:
+        sub_terms, sub_prepared = list(terms), [tuple(pre) for pre in prepared]
+        sa, la, ha, target = s.copy(), lo.copy(), hi.copy(), log_target
+    else:
+        sub_terms = [_subset(t, work) for t in terms]
+        sub_prepared = [tuple(c[work] for c in pre) for pre in prepared]
+        sa, la, ha, target = s[work], lo[work], hi[work], log_target[work]
+    live = np.ones(work.size, bool)
     for _ in range(_MAX_ITERATIONS):
-        if active.size == 0:
+        count = int(np.count_nonzero(live))
+        if count == 0:
             break
-        sub_terms = [_subset(t, active) for t in terms]
-        sub_prepared = [tuple(c[active] for c in pre) for pre in prepared]
-        sa, la, ha, target = s[active], lo[active], hi[active], log_target[active]
+        if count < live.size // 2:  # compact, writing the finished points back first
+            s[work[~live]] = sa[~live]
+            keep = np.flatnonzero(live)
+            work = work[keep]
+            sub_terms = [_subset(t, keep) for t in sub_terms]
+            sub_prepared = [tuple(c[keep] for c in pre) for pre in sub_prepared]
+            sa, la, ha, target = sa[keep], la[keep], ha[keep], target[keep]
+            live = np.ones(work.size, bool)
         values, slopes = zip(
             *(t.log_rate(sa, c, with_slope=True) for t, c in zip(sub_terms, sub_prepared))
         )
@@ -443,17 +460,20 @@ def _solve(s, lo, hi, log_target, terms, prepared):
         peak = np.max(values, axis=0)
         weights = np.exp(values - peak)
         total = weights.sum(axis=0)
-        residual = peak + np.log(total) - target
+        residual = peak + np.log(total) - target  # ln(sum of rates) - ln(target)
         slope = np.sum(weights * np.array(slopes), axis=0) / total
         done = np.abs(residual) < _LOG_RATE_TOLERANCE
-        ha = np.where(residual > 0, sa, ha)
-        la = np.where(residual < 0, sa, la)
+        new_hi = np.where(residual > 0, sa, ha)
+        new_lo = np.where(residual < 0, sa, la)
         with np.errstate(divide="ignore", invalid="ignore"):
             step = sa - residual / slope
-        inside = (step > la) & (step < ha) & np.isfinite(step)
-        new = np.where(inside, step, 0.5 * (la + ha))
-        done |= (ha - la) < 1e-12
-        s[active] = np.where(done, sa, new)
-        lo[active], hi[active] = la, ha
-        active = active[~done]
+        inside = (step > new_lo) & (step < new_hi) & np.isfinite(step)
+        new = np.where(inside, step, 0.5 * (new_lo + new_hi))
+        done |= (new_hi - new_lo) < 1e-12
+        move = live & ~done
+        sa = np.where(move, new, sa)
+        la = np.where(live, new_lo, la)
+        ha = np.where(live, new_hi, ha)
+        live = move
+    s[work] = sa
     return s
