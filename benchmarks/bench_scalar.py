@@ -41,6 +41,7 @@ def column_constants(scenario):
                     law.peierls_stress,
                     law.peierls_p,
                     law.peierls_q,
+                    law.min_stress,
                 )
             )
         last = index == len(scenario.layers) - 1
@@ -71,10 +72,12 @@ def column_constants(scenario):
 
 def _log_rate(law, s, temperature, pressure):
     """ln(strain rate) and its slope d ln rate / d ln stress of one law at ln stress s."""
-    peierls, a, n, q_act, v, sp, p, q = law
+    peierls, a, n, q_act, v, sp, p, q, floor = law
     h = (q_act + pressure * v) / (GAS_CONSTANT * temperature)
     if not peierls:
         return math.log(a) + n * s - h, n
+    if floor > 0 and s < math.log(floor):  # below the law's lowest applicable stress
+        return -math.inf, n
     x = math.exp(p * (min(s, math.log(sp)) - math.log(sp)))
     bracket = 1.0 - x
     value = math.log(a) + n * s - h * bracket**q
@@ -107,9 +110,9 @@ def creep_stress(laws, strain_rate, temperature, pressure):
         weights = [math.exp(v - peak) for v, _ in values]
         total = sum(weights)
         residual = peak + math.log(total) - target
-        if abs(residual) < 1e-9:
+        if abs(residual) < 1e-9 or hi - lo < 1e-12:
             break
-        slope = sum(w * d for w, (_, d) in zip(weights, values)) / total
+        slope = sum(w * d for w, (_, d) in zip(weights, values) if w > 0) / total
         if residual > 0:
             hi = s
         else:

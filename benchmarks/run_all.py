@@ -292,6 +292,7 @@ def case_creep(quick: bool) -> dict:
             law.peierls_stress,
             law.peierls_p,
             law.peierls_q,
+            law.min_stress,
         )
         for law in rock.laws
     ]

@@ -14,17 +14,21 @@ to the public API and shows the API's answers unchanged:
   and to exactly the answer the API gives for the changed scenario;
 * bad input shows the RheologyError text on the page, no traceback, and the last good
   result stays;
-* uploads and pastes replace the set-up; the download payloads carry the API's numbers.
+* uploads and pastes replace the set-up; the download payloads carry the API's numbers;
+* the envelope chart (drawn by the browser) receives the API's numbers: its tables, as
+  the page sends them, hold the transitions and the profile of the analysis shown.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import io
+import json
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 import pytest
 import tomli_w
 
@@ -83,6 +87,18 @@ def _open_tab(at: AppTest, label: str) -> AppTest:
     return at.run()
 
 
+def _chart(at: AppTest) -> tuple[dict, dict[str, pd.DataFrame]]:
+    """The envelope chart as the page sends it: Vega-Lite spec and its named tables."""
+    charts = at.get("vega_lite_chart")
+    assert len(charts) == 1, "the envelope chart is missing"
+    proto = charts[0].proto
+    tables = {
+        dataset.name: pa.ipc.open_stream(dataset.data.data).read_all().to_pandas()
+        for dataset in proto.datasets
+    }
+    return json.loads(proto.spec), tables
+
+
 def _markdown(at: AppTest) -> str:
     return "\n".join(m.value for m in at.markdown)
 
@@ -105,7 +121,39 @@ def demo_page():
 def test_default_page_renders_without_exception_or_error(demo_page):
     assert not demo_page.exception
     assert not demo_page.error
-    assert demo_page.image, "the envelope figure is missing"
+    spec, tables = _chart(demo_page)
+    assert len(spec["hconcat"]) == 3  # strength, mechanism strip, geotherm
+    assert set(tables) == {"profile", "transitions", "semi_brittle", "bands", "layers"}
+    # the page no longer sends a picture of the envelope
+    assert not demo_page.image
+
+
+def test_default_chart_carries_the_api_transitions_and_profile(demo_page, demo):
+    """The chart's tables hold the demo's transitions and strengths as the API computes
+    them (in km, MPa and degC), and its depth axis points down."""
+    spec, tables = _chart(demo_page)
+    ordered = sorted(demo.transitions, key=lambda t: t.depth)
+    transitions = tables["transitions"]
+    np.testing.assert_allclose(transitions["depth_km"], _depths_km(demo), rtol=SAME_RTOL)
+    np.testing.assert_allclose(
+        transitions["temperature_c"], [t.temperature - 273.15 for t in ordered], rtol=SAME_RTOL
+    )
+    np.testing.assert_allclose(
+        transitions["stress_mpa"], [t.stress / 1e6 for t in ordered], rtol=SAME_RTOL
+    )
+    assert list(transitions["kind"]) == [t.kind for t in ordered]
+    profile = tables["profile"]
+    env = demo.envelope
+    # the deepest row is the base of the column, with the API's strength there
+    assert profile["depth_km"].iloc[-1] == pytest.approx(env.depth[-1] / 1e3, rel=SAME_RTOL)
+    assert profile["envelope_mpa"].iloc[-1] == pytest.approx(env.strength[-1] / 1e6, rel=SAME_RTOL)
+    for t in ordered:
+        if not t.at_boundary:
+            row = profile[np.isclose(profile["depth_km"], t.depth / 1e3, rtol=SAME_RTOL)]
+            assert row["envelope_mpa"].to_numpy() == pytest.approx([t.stress / 1e6], rel=SAME_RTOL)
+    depth_scale = spec["hconcat"][0]["layer"][0]["encoding"]["y"]["scale"]
+    assert depth_scale["reverse"] is True
+    assert depth_scale["domain"] == [0.0, demo.scenario.max_depth / 1e3]
 
 
 def test_default_page_shows_demo_transitions_as_the_api_computes_them(demo_page, demo):
@@ -168,6 +216,12 @@ def test_faster_strain_rate_moves_first_transition_deeper_or_equal(demo):
     page = _page_transitions(at)
     faster = rheology.analyse(dataclasses.replace(demo.scenario, strain_rate=1e-13))
     np.testing.assert_allclose(page["depth [km]"], _depths_km(faster), rtol=SAME_RTOL)
+    # the chart is redrawn for the new rate
+    spec, tables = _chart(at)
+    np.testing.assert_allclose(
+        tables["transitions"]["depth_km"], _depths_km(faster), rtol=SAME_RTOL
+    )
+    assert "strain rate 1e-13 1/s" in spec["title"]["subtitle"]
     first_page = page.loc[page["change"].str.startswith("brittle-to-ductile"), "depth [km]"]
     assert first_page.iloc[0] >= _first_km(demo)
 
@@ -184,6 +238,26 @@ def test_hotter_geotherm_moves_first_transition_shallower_or_equal(demo):
     np.testing.assert_allclose(page["depth [km]"], _depths_km(hotter), rtol=SAME_RTOL)
     first_page = page.loc[page["change"].str.startswith("brittle-to-ductile"), "depth [km]"]
     assert first_page.iloc[0] <= _first_km(demo)
+
+
+def test_second_regime_is_drawn_on_the_negative_side(demo):
+    """Choosing normal faulting as the second regime adds its envelope, extension drawn
+    negative, with the transitions the API computes for that regime."""
+    at = _app().run()
+    at.selectbox(key="w_companion").set_value("normal").run()
+    assert not at.exception and not at.error
+    _spec, tables = _chart(at)
+    profile = tables["profile"]
+    assert set(profile["regime"]) == {"thrust", "normal"}
+    assert (profile.loc[profile["regime"] == "normal", "envelope_x"] <= 0).all()
+    assert (profile.loc[profile["regime"] == "thrust", "envelope_x"] >= 0).all()
+    normal = rheology.analyse(demo.scenario, faulting="normal")
+    transitions = tables["transitions"]
+    np.testing.assert_allclose(
+        transitions.loc[transitions["regime"] == "normal", "depth_km"],
+        _depths_km(normal),
+        rtol=SAME_RTOL,
+    )
 
 
 def test_point_question_matches_point_answer(demo):

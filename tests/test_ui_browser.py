@@ -1,10 +1,12 @@
 """The page in a real browser: serve ui/app.py with streamlit, drive headless Chromium.
 
-Checks what a visitor sees on a first visit: the envelope figure arrives as an image
-and the page states the demo's first brittle-to-ductile transition depth as the API
-computes it (``rheology.analyse`` of the bundled demo), formatted as the page formats
-it; and a download button delivers the profile table with the API's numbers. A
-screenshot is saved under test-output/ for a person to look at.
+Checks what a visitor sees on a first visit: the envelope chart is drawn by the browser
+(Vega renders an <svg> inside the chart element), pointing at a depth of
+it shows that depth's numbers, and the page states the demo's first brittle-to-ductile
+transition depth as the API computes it (``rheology.analyse`` of the bundled demo),
+formatted as the page formats it; and a download button delivers the profile table
+with the API's numbers. A screenshot is saved under test-output/ for a person to look
+at.
 
 Needs Debian's ``chromium`` and ``chromium-driver`` and the selenium package; skipped
 with the reason when one is missing.
@@ -62,6 +64,7 @@ from selenium.common.exceptions import (  # noqa: E402
     StaleElementReferenceException,
 )
 from selenium.webdriver.chrome.service import Service  # noqa: E402
+from selenium.webdriver.common.action_chains import ActionChains  # noqa: E402
 from selenium.webdriver.common.by import By  # noqa: E402
 from selenium.webdriver.support.ui import WebDriverWait  # noqa: E402
 
@@ -193,10 +196,54 @@ def _click(browser, xpath: str) -> None:
     ).until(attempt)
 
 
-_FIGURE_READY = """
-const img = document.querySelector("[data-testid='stImage'] img");
-return img !== null && img.complete && img.naturalWidth > 0;
+# The chart is drawn when Vega has put the strength panel's plot area (the 'background'
+# path of the first panel's group, in the <svg> streamlit has Vega render) into the
+# chart element, at its full size.
+_CHART_READY = """
+const area = document.querySelector(
+  "[data-testid='stVegaLiteChart'].vega-embed svg .concat_0_group path.background");
+if (area === null) return false;
+const box = area.getBoundingClientRect();
+return box.width > 100 && box.height > 100;
 """
+_PLOT_AREA = """
+const area = document.querySelector(
+  "[data-testid='stVegaLiteChart'].vega-embed .concat_0_group path.background");
+if (area === null) return null;
+area.scrollIntoView({block: "center"});
+const box = area.getBoundingClientRect();
+return [box.x, box.y, box.width, box.height];
+"""
+_TOOLTIP = """
+const tip = document.getElementById("vg-tooltip-element");
+return tip !== null && tip.classList.contains("visible") ? tip.innerText : null;
+"""
+# Pointing lands on the nearest profile row: rows are at most 0.15 km apart on the demo
+# chart (80 km thinned to <= 600 rows) and each row's hover band is 3 px (0.43 km) tall,
+# so the depth shown is within 0.5 km of the depth pointed at.
+POINTING_KM = 0.5
+
+
+def _tooltip_value(text: str, title: str) -> str:
+    """The value beside ``title`` in the tooltip text (title, tab, value lines)."""
+    lines = [line.strip() for line in text.splitlines() if line.strip()]
+    return lines[lines.index(title) + 1]
+
+
+def _point_at_depth(browser, wait, depth_km: float, max_depth_km: float) -> str:
+    """Move the pointer over the strength panel at ``depth_km`` and return the tooltip."""
+    box = wait.until(lambda d: d.execute_script(_PLOT_AREA))
+    x, y, width, height = box
+    element = browser.find_element(By.CSS_SELECTOR, "[data-testid='stVegaLiteChart'].vega-embed")
+    centre = element.rect
+    target_x = x + 0.3 * width
+    target_y = y + height * depth_km / max_depth_km
+    ActionChains(browser).move_to_element_with_offset(
+        element,
+        round(target_x - (centre["x"] + centre["width"] / 2)),
+        round(target_y - (centre["y"] + centre["height"] / 2)),
+    ).perform()
+    return wait.until(lambda d: d.execute_script(_TOOLTIP))
 
 
 def test_first_visit_shows_figure_and_demo_transition(served_page, browser):
@@ -210,11 +257,20 @@ def test_first_visit_shows_figure_and_demo_transition(served_page, browser):
         poll_frequency=0.5,
         ignored_exceptions=(StaleElementReferenceException,),
     )
-    wait.until(lambda d: d.execute_script(_FIGURE_READY))
+    wait.until(lambda d: d.execute_script(_CHART_READY))
     wait.until(lambda d: first in d.find_element(By.TAG_NAME, "body").text)
     time.sleep(1.0)  # let the last elements settle before the screenshot
     OUTPUT.mkdir(exist_ok=True)
     browser.save_screenshot(str(OUTPUT / "ui-first-visit.png"))
+
+    # pointing at 40 km shows that depth, in the mantle, where the API says dislocation
+    # creep governs
+    target_km = 40.0
+    band = next(b for b in demo.bands if b.top <= target_km * 1e3 < b.bottom)
+    tip = _point_at_depth(browser, wait, target_km, demo.scenario.max_depth / 1e3)
+    assert abs(float(_tooltip_value(tip, "depth [km]")) - target_km) <= POINTING_KM
+    assert _tooltip_value(tip, "layer") == band.layer
+    assert _tooltip_value(tip, "governing mechanism") == band.mechanism
 
     text = browser.find_element(By.TAG_NAME, "body").text
     assert "faults reach" in text and first in text

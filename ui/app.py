@@ -3,8 +3,11 @@
 Run with ``streamlit run ui/app.py`` (or ``rheology app``). The page holds no physics:
 it turns its widgets into a scenario mapping (:mod:`ui.state`), lets
 :func:`rheology.scenario.scenario_from_mapping` check it, calls :func:`rheology.analyse`
-and shows the answers (:mod:`ui.views`). Analyses, figures and the library are cached
-on the scenario text, so a rerun that does not change the column costs almost nothing.
+and shows the answers (:mod:`ui.views`). The envelope is a chart drawn by the browser
+(:mod:`ui.chart`): the server only sends its specification and a few small tables.
+Analyses, chart specifications and the library are cached on the scenario text, so a
+rerun that does not change the column costs almost nothing; the matplotlib figure is
+drawn only when its PNG is downloaded.
 """
 
 from __future__ import annotations
@@ -27,7 +30,7 @@ from rheology.library.tables import load_rocks  # noqa: E402
 from rheology.model import GEOTHERM_KINDS, GEOTHERM_PARAMETERS  # noqa: E402
 from rheology.scenario import bundled_example, list_examples  # noqa: E402
 from rheology.units import to_si  # noqa: E402
-from ui import state, views  # noqa: E402
+from ui import chart, state, views  # noqa: E402
 
 #: Widget keys kept when a new scenario replaces the set-up (the loaders themselves).
 _LOADER_KEYS = ("w_example", "w_upload", "w_paste")
@@ -88,10 +91,15 @@ def cached_companion(scenario_text: str, faulting: str):
 
 
 @st.cache_resource(show_spinner=False, max_entries=64)
-def cached_screen_png(scenario_text: str, companion: str) -> bytes:
+def cached_chart_spec(scenario_text: str, companion: str) -> dict:
+    """The envelope chart's Vega-Lite specification, keyed like the analysis.
+
+    The browser draws it; streamlit copies the spec before sending it, so the cached
+    object is not changed.
+    """
     analysis = cached_analysis(scenario_text)
     other = cached_companion(scenario_text, companion) if companion != "none" else None
-    return views.screen_png(analysis, other)
+    return chart.envelope_spec(analysis, other)
 
 
 # ------------------------------------------------------------------------ set-up state
@@ -433,16 +441,16 @@ with pick_col:
         {"none": "no, one regime only", **state.FAULTING_LABELS},
     )
 try:
-    figure_bytes = cached_screen_png(scenario_text, companion)
+    spec = cached_chart_spec(scenario_text, companion)
 except Exception as exc:  # never a traceback on the page
     st.error(f"The figure could not be drawn ({type(exc).__name__}: {exc}).")
 else:
-    st.image(
-        figure_bytes,
-        width="stretch",
-        output_format="PNG",
-        caption="Strength envelope (differential stress σ1 − σ3), governing mechanism and "
-        "geotherm against depth. Dashed lines: transitions; grey lines: layer boundaries.",
+    st.vega_lite_chart(spec, width="content", key="envelope_chart")
+    st.caption(
+        "Strength envelope (differential stress σ1 − σ3), governing mechanism and "
+        "geotherm against depth. Dashed lines: transitions; grey lines: layer boundaries; "
+        "violet shading: semi-brittle bands. Point at any depth for its numbers; the "
+        "figure as a PNG is under 'Take the numbers away'."
     )
 words_col, caution_col = st.columns([1.7, 1], gap="medium")
 with words_col:

@@ -23,8 +23,8 @@ _MPA = 1e6
 _TN_PER_M = 1e12
 _YEAR = SECONDS_PER_MYR / 1e6  # Julian year [s]
 
-#: Resolution of the figure on the page and in the downloaded PNG [dots per inch].
-SCREEN_DPI = 100
+#: Resolution of the downloaded PNG figure [dots per inch] (the page itself shows the
+#: browser-drawn chart of :mod:`ui.chart`).
 DOWNLOAD_DPI = 150
 
 #: Source name used in messages about the page's own set-up.
@@ -281,52 +281,6 @@ def figure_png(analysis, companion=None, dpi: int = DOWNLOAD_DPI) -> bytes:
     figure = strength_figure(analysis, companion=companion)
     buffer = io.BytesIO()
     figure.savefig(buffer, format="png", dpi=dpi)
-    return buffer.getvalue()
-
-
-#: Axes positions found by the layout engine, per figure shape (see :func:`screen_png`).
-_LAYOUTS: dict[tuple, list] = {}
-
-
-def _layout_key(figure, analysis, companion) -> tuple:
-    legend = figure.legends[0] if figure.legends else None
-    handles = len(legend.legend_handles) if legend is not None else 0
-    title = figure.get_suptitle() if hasattr(figure, "get_suptitle") else ""
-    depth_digits = len(str(int(round(analysis.scenario.max_depth / _KM))))
-    return (companion is not None, handles, title.count("\n"), depth_digits)
-
-
-def screen_png(analysis, companion=None, dpi: int = SCREEN_DPI) -> bytes:
-    """The envelope figure for the page, as PNG bytes, drawn as fast as possible.
-
-    The figure is the same :func:`rheology.plotting.strength_figure`. Its layout engine
-    runs once per figure shape (with or without a companion, number of legend entries,
-    title lines, digits of the depth axis); later figures of the same shape reuse the
-    axes positions it found, which saves one layout pass, and the PNG is written with
-    fast compression. The downloadable PNG (:func:`figure_png`) is always laid out
-    afresh.
-    """
-    import numpy as np
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from PIL import Image
-
-    from rheology.plotting import strength_figure
-
-    figure = strength_figure(analysis, companion=companion)
-    figure.set_dpi(dpi)
-    key = _layout_key(figure, analysis, companion)
-    saved = _LAYOUTS.get(key)
-    if saved is not None and len(saved) == len(figure.axes):
-        figure.set_layout_engine("none")
-        for axes, box in zip(figure.axes, saved):
-            axes.set_position(box)
-    canvas = FigureCanvasAgg(figure)
-    canvas.draw()
-    if saved is None:
-        _LAYOUTS[key] = [axes.get_position().frozen() for axes in figure.axes]
-    image = Image.fromarray(np.asarray(canvas.buffer_rgba())).convert("RGB")
-    buffer = io.BytesIO()
-    image.save(buffer, format="PNG", compress_level=1)
     return buffer.getvalue()
 
 
