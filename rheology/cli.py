@@ -24,6 +24,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 
 from rheology.errors import RheologyError
+from rheology.textout import read_scenario_file, text_table
 
 #: Exit codes.
 OK, INTERNAL_ERROR, USAGE_ERROR = 0, 1, 2
@@ -89,18 +90,6 @@ def _strain_rate(text: str | None) -> float | None:
     return to_si(value, "1/s", "--strain-rate", positive=True)
 
 
-def _load(path_text: str):
-    """The scenario in ``path_text``; a missing file is a one-line error."""
-    from rheology.scenario import load_scenario
-
-    path = pathlib.Path(path_text)
-    if not path.exists():
-        raise CommandError(f"{path_text}: no such file")
-    if path.is_dir():
-        raise CommandError(f"{path_text}: is a directory, expected a scenario file (.toml)")
-    return load_scenario(path)
-
-
 def _with_overrides(scenario, args):
     changes = {}
     rate = _strain_rate(getattr(args, "strain_rate", None))
@@ -113,22 +102,6 @@ def _with_overrides(scenario, args):
 
 def _write_json(out, data) -> None:
     out.write(json.dumps(data, indent=2, allow_nan=False, ensure_ascii=False) + "\n")
-
-
-def _table(rows: Sequence[Sequence[str]], header: Sequence[str], right: set[int] = frozenset()):
-    """Plain-text table with columns padded to their widest cell."""
-    cells = [list(header)] + [list(map(str, row)) for row in rows]
-    widths = [max(len(row[i]) for row in cells) for i in range(len(header))]
-    lines = []
-    for number, row in enumerate(cells):
-        parts = [
-            cell.rjust(w) if i in right else cell.ljust(w)
-            for i, (cell, w) in enumerate(zip(row, widths))
-        ]
-        lines.append("  " + "  ".join(parts).rstrip())
-        if number == 0:
-            lines.append("  " + "  ".join("-" * w for w in widths))
-    return "\n".join(lines)
 
 
 def _save_plot(analysis, path_text: str, companion=None) -> pathlib.Path:
@@ -178,7 +151,7 @@ def _analysis_text(analysis, companion=None) -> str:
                 layer.rock.name,
             )
         )
-    lines += ["", "layers:", _table(layer_rows, ("layer", "depth km", "rock id", "rock"))]
+    lines += ["", "layers:", text_table(layer_rows, ("layer", "depth km", "rock id", "rock"))]
     lines += ["", "transitions (differential stress sigma1-sigma3):"]
     if analysis.transitions:
         rows = []
@@ -198,7 +171,9 @@ def _analysis_text(analysis, companion=None) -> str:
                 )
             )
         lines.append(
-            _table(rows, ("depth km", "T degC", "stress MPa", "kind", "layers"), right={0, 1, 2})
+            text_table(
+                rows, ("depth km", "T degC", "stress MPa", "kind", "layers"), right={0, 1, 2}
+            )
         )
     else:
         lines.append("  none: friction is weaker than creep through the whole column")
@@ -279,7 +254,7 @@ def _run_envelope(args, out, err) -> int:
     from rheology.answers.report import analyse
     from rheology.outputs import analysis_to_dict, write_profile_csv
 
-    scenario = _with_overrides(_load(args.scenario), args)
+    scenario = _with_overrides(read_scenario_file(args.scenario), args)
     analysis = analyse(scenario)
     companion = None
     if args.both_regimes:
@@ -409,7 +384,7 @@ def _run_point(args, out, err) -> int:
     else:
         if args.depth is None:
             raise CommandError("--depth: needed with a scenario, e.g. --depth '12 km'")
-        scenario = _load(args.scenario)
+        scenario = read_scenario_file(args.scenario)
         title = scenario.title
         answer = point_answer(
             scenario,
@@ -509,7 +484,7 @@ def _run_rocks(args, out, err) -> int:
     ]
     lines = [
         f'{len(rows)} rocks (use the id as `rock = "<id>"` in a scenario layer):',
-        _table(rows, ("id", "name", "flow laws", "grain size", "water")),
+        text_table(rows, ("id", "name", "flow laws", "grain size", "water")),
     ]
     if laws is not None:
         lines += [
@@ -615,7 +590,7 @@ def _run_demo(args, out, err) -> int:
     from rheology.scenario import bundled_example
 
     path = bundled_example("demo")
-    analysis = analyse(_load(str(path)))
+    analysis = analyse(read_scenario_file(str(path)))
     written = _save_plot(analysis, args.plot).resolve()
     if args.json:
         _write_json(out, analysis_to_dict(analysis))

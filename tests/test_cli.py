@@ -455,10 +455,13 @@ def test_every_command_is_registered():
 
 def test_command_line_helpers_raise_named_errors(tmp_path):
     """Each error path of the helpers names the file or option and what was expected."""
-    with pytest.raises(cli.CommandError, match=r"nothing\.toml: no such file"):
-        cli._load(str(tmp_path / "nothing.toml"))
-    with pytest.raises(cli.CommandError, match=r"is a directory, expected a scenario file"):
-        cli._load(str(tmp_path))
+    from rheology.errors import RheologyError
+    from rheology.textout import read_scenario_file
+
+    with pytest.raises(RheologyError, match=r"nothing\.toml: no such file"):
+        read_scenario_file(str(tmp_path / "nothing.toml"))
+    with pytest.raises(RheologyError, match=r"is a directory, expected a scenario file"):
+        read_scenario_file(str(tmp_path))
     with pytest.raises(cli.CommandError, match=r"--depth: '12' has no units; give e.g. '12 km'"):
         cli._quantity("12", "km", "--depth")
     with pytest.raises(rheology.RheologyError, match=r"--duration: .*wrong dimension"):

@@ -640,5 +640,5 @@ def test_cli_option_errors_raise_for_the_main_cli(option, value, match):
 
 
 def test_cli_missing_scenario_is_an_error(tmp_path):
-    with pytest.raises(RheologyError, match="no such scenario file"):
+    with pytest.raises(RheologyError, match="none.toml: no such file"):
         _cli(["uncertainty", str(tmp_path / "none.toml"), "--samples", "10"])

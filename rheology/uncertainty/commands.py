@@ -16,6 +16,7 @@ import pathlib
 
 from rheology.constants import ZERO_CELSIUS
 from rheology.errors import RheologyError
+from rheology.textout import read_scenario_file, text_table
 
 _KM = 1e3
 #: Skipped rows listed on stderr by ``sites`` (the rest are counted).
@@ -188,21 +189,12 @@ def _with_units(text: str, option: str, unit: str) -> str:
     raise RheologyError(f"{option}: {text!r} has no units; give e.g. '{text} {unit}'")
 
 
-def _load_scenario(path_text: str):
-    from rheology.scenario import load_scenario
-
-    path = pathlib.Path(path_text)
-    if path.is_dir():
-        raise RheologyError(f"{path_text}: is a directory, expected a scenario file (.toml)")
-    return load_scenario(path)
-
-
 def run_uncertainty(args, out, err) -> int:
     """Handler of ``rheology uncertainty``: run, print the summary, write the figure."""
     from rheology.answers.report import CAUTION
     from rheology.uncertainty.montecarlo import run_monte_carlo
 
-    scenario = _load_scenario(args.scenario)
+    scenario = read_scenario_file(args.scenario)
     spread = _spread(args)
     if args.plot and not pathlib.Path(args.plot).suffix:
         raise RheologyError(f"--plot: {args.plot!r} has no file suffix; give e.g. 'spread.png'")
@@ -247,21 +239,6 @@ def _share(fraction: float) -> str:
     return f"{100 * fraction:.0f}%"
 
 
-def _table(rows, header, right=frozenset()) -> str:
-    cells = [list(header)] + [[str(c) for c in row] for row in rows]
-    widths = [max(len(row[i]) for row in cells) for i in range(len(header))]
-    lines = []
-    for number, row in enumerate(cells):
-        parts = [
-            cell.rjust(w) if i in right else cell.ljust(w)
-            for i, (cell, w) in enumerate(zip(row, widths))
-        ]
-        lines.append("  " + "  ".join(parts).rstrip())
-        if number == 0:
-            lines.append("  " + "  ".join("-" * w for w in widths))
-    return "\n".join(lines)
-
-
 def _quantile_row(name, q, scale, offset=0.0, digits=1, samples=1):
     shown = [
         (x / scale - offset) if math.isfinite(x) else math.nan
@@ -299,7 +276,7 @@ def summary_text(result) -> str:
                 )
         lines += [
             "inputs varied:",
-            _table(rows, ("input", "P10", "P50", "P90", "drawn as"), right={1, 2, 3}),
+            text_table(rows, ("input", "P10", "P50", "P90", "drawn as"), right={1, 2, 3}),
         ]
     else:
         lines.append("inputs varied: none (every realisation is the central scenario)")
@@ -327,7 +304,9 @@ def summary_text(result) -> str:
     lines += [
         "",
         "answers over the realisations (found in = share of realisations where the answer exists):",
-        _table(rows, ("answer", "P10", "P50", "P90", "mean", "found in"), right={1, 2, 3, 4, 5}),
+        text_table(
+            rows, ("answer", "P10", "P50", "P90", "mean", "found in"), right={1, 2, 3, 4, 5}
+        ),
     ]
     if result.transitions:
         rows = [
@@ -347,7 +326,7 @@ def summary_text(result) -> str:
             "",
             "transitions matched across realisations (by kind, layer and "
             "occurrence in that layer):",
-            _table(
+            text_table(
                 rows,
                 ("kind", "layer", "#", "found in", "P10 km", "P50 km", "P90 km", "P50 degC"),
                 right={2, 3, 4, 5, 6, 7},
@@ -371,7 +350,7 @@ def summary_text(result) -> str:
             "what drives the first brittle-to-ductile depth (Spearman rank "
             "correlation over the realisations; swing: that input alone at its "
             "P10 and P90, the others central):",
-            _table(
+            text_table(
                 rows,
                 ("input", "rho", "input P10 / P90", "depth km at P10 / P90", "swing km"),
                 right={1, 4},
@@ -451,7 +430,7 @@ def run_sites(args, out, err) -> int:
     sites = pathlib.Path(args.sites)
     if not sites.is_file():
         raise RheologyError(f"{args.sites}: no such sites file")
-    scenario = _load_scenario(args.scenario)
+    scenario = read_scenario_file(args.scenario)
     progress = ProgressLine(err, enabled=not args.quiet)
     try:
         results = process_sites(
