@@ -153,11 +153,6 @@ def _show(quantity: pint.Quantity) -> str:
     return f"array of {np.size(magnitude)} values in {quantity.units:~}"
 
 
-def format_quantity(value: float, unit: str, digits: int = 3) -> str:
-    """Format an SI magnitude in ``unit`` for display, e.g. ``format_quantity(1.5e4, 'km')``."""
-    return f"{Q_(value, Q_(1, unit).to_base_units().units).to(unit).magnitude:.{digits}g} {unit}"
-
-
 #: Exponents of A's units may differ from n, p, r by rounding of fractional exponents only.
 _EXPONENT_TOLERANCE = 1e-9
 

@@ -18,7 +18,7 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from rheology.envelope import FRICTIONAL, MECHANISMS, Envelope, evaluate, layer_terms
+from rheology.envelope import MECHANISMS, Envelope, evaluate, layer_terms
 
 BRITTLE_TO_DUCTILE = "brittle-to-ductile"
 DUCTILE_TO_BRITTLE = "ductile-to-brittle"
@@ -203,5 +203,4 @@ __all__ = [
     "goetze_depths",
     "regime_bands",
     "faulting_base",
-    "FRICTIONAL",
 ]

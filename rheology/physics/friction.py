@@ -179,15 +179,3 @@ def principal_effective_stresses(vertical_effective_stress, differential_stress,
     if regime == "normal":
         return sv, sv - diff
     return sv + diff / 2.0, sv - diff / 2.0
-
-
-def optimal_plane_tractions(sigma1, sigma3, mu):
-    """(normal, shear) stress [Pa] on the plane at the optimal angle for friction mu.
-
-    The plane's normal is at 45 deg + phi/2 from sigma1, phi = arctan(mu); the traction is
-    the point where the Mohr circle touches a line of slope mu (Jaeger et al. 2007, sec. 4.6).
-    """
-    phi = np.arctan(np.asarray(mu, float))
-    centre = 0.5 * (np.asarray(sigma1, float) + np.asarray(sigma3, float))
-    radius = 0.5 * (np.asarray(sigma1, float) - np.asarray(sigma3, float))
-    return centre - radius * np.sin(phi), radius * np.cos(phi)
