@@ -11,18 +11,14 @@ are kelvin, pressures pascals, grain sizes metres.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
 
 from rheology.constants import GAS_CONSTANT
 from rheology.errors import RheologyError
-
-#: Solver tolerance on ln(strain rate): 1e-9 means a relative stress error below 1e-9.
-_LOG_RATE_TOLERANCE = 1e-9
-_MAX_ITERATIONS = 100
-#: Lowest stress the solver reports [Pa]: below it a rock is, for envelopes, strengthless.
-_LOG_STRESS_FLOOR = np.log(1e-6)
+from rheology.physics.compiled import compiled
 
 
 def _check_temperature(temperature):
@@ -198,7 +194,7 @@ def peierls_strain_rate(
     temperature = _check_temperature(temperature)
     with np.errstate(divide="ignore"):
         log_stress = np.log(np.asarray(stress, float))
-    return np.exp(term.log_rate(log_stress, term.prepare(temperature, pressure)))
+    return np.exp(term.log_rate(log_stress, temperature, pressure))
 
 
 def peierls_stress_goetze(strain_rate, temperature, pressure, A, Q, V, peierls_stress):
@@ -269,70 +265,26 @@ class CreepTerm:
             np.asarray(min_stress, float),
         )
 
-    def prepare(self, temperature, pressure):
-        """Per-point constants: (ln A - H/RT) for power laws; (ln A, H/RT) for Peierls."""
+    def log_rate(self, log_stress, temperature, pressure):
+        """ln(axial strain rate) at ln(stress) [ln Pa], temperature [K] and pressure [Pa]."""
         exponent = arrhenius_exponent(temperature, pressure, self.Q, self.V)
+        log_stress = np.asarray(log_stress, float)
         if self.kind == "power":
-            return (np.log(self.A) - exponent,)
-        return (np.log(self.A) + 0.0 * exponent, exponent)
-
-    def log_rate(self, log_stress, prepared, with_slope=False):
-        """ln(strain rate) at ln(stress) (and d ln rate / d ln stress if asked)."""
-        if self.kind == "power":
-            (a,) = prepared
-            value = a + self.n * log_stress
-            return (value, np.broadcast_to(self.n, value.shape)) if with_slope else value
-        a, exponent = prepared
+            return np.log(self.A) + self.n * log_stress - exponent
         log_sp = np.log(self.peierls_stress)
-        with np.errstate(over="ignore", invalid="ignore"):
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
             x = np.exp(self.p * (np.minimum(log_stress, log_sp) - log_sp))
-            bracket = 1.0 - x
-            value = a + self.n * log_stress - exponent * bracket**self.q
-            with np.errstate(divide="ignore"):
-                floor = np.log(self.min_stress)
-            value = np.where(log_stress < floor, -np.inf, value)
-            if not with_slope:
-                return value
-            slope = self.n + exponent * self.q * bracket ** (self.q - 1.0) * self.p * x
-        return value, np.where(np.isfinite(slope), slope, self.n)
-
-    def upper_bound(self, log_target, prepared):
-        """A ln(stress) at which this term alone reaches the target rate (inf if never)."""
-        if self.kind == "power":
-            return (log_target - prepared[0]) / self.n
-        a = prepared[0]
-        log_sp = np.log(self.peierls_stress) + 0.0 * a
-        with np.errstate(divide="ignore", invalid="ignore"):
-            # at and above sigma_P the rate is A sigma^n
-            beyond = np.where(
-                self.n > 0,
-                (log_target - a) / np.where(self.n > 0, self.n, 1.0),
-                np.where(a >= log_target, -np.inf, np.inf),
-            )
-        return np.maximum(log_sp, beyond)
-
-    def lower_bound(self, log_target, prepared):
-        """A ln(stress) below which this term alone cannot reach the target rate."""
-        if self.kind == "power":
-            return (log_target - prepared[0]) / self.n
-        a, exponent = prepared
-        with np.errstate(divide="ignore", invalid="ignore"):
-            # the Arrhenius bracket is at most 1, so rate >= target needs A sigma^n >= target
-            from_prefactor = np.where(
-                self.n > 0, (log_target - a) / np.where(self.n > 0, self.n, 1.0), -np.inf
-            )
-            with np.errstate(divide="ignore"):
-                floor = np.log(self.min_stress) + 0.0 * a
-        return np.maximum(from_prefactor, floor)
+            value = np.log(self.A) + self.n * log_stress - exponent * (1.0 - x) ** self.q
+            floor = np.log(self.min_stress)
+        return np.where(log_stress < floor, -np.inf, value)
 
 
 @dataclass(frozen=True)
 class CompositeResult:
-    """Stress [Pa] of mechanisms in parallel, the dominant one's index, and each term's rate."""
+    """Stress [Pa] of mechanisms in parallel and the index of the dominant one."""
 
     stress: np.ndarray
     dominant: np.ndarray
-    log_rates: np.ndarray
 
 
 def composite_stress(strain_rate, temperature, pressure, terms):
@@ -350,9 +302,8 @@ def composite_stress(strain_rate, temperature, pressure, terms):
     Returns
     -------
     CompositeResult
-        ``stress`` [Pa], ``dominant`` (index into ``terms`` of the mechanism carrying the
-        largest share of the strain rate) and ``log_rates`` (ln rate of each term at the
-        solution, leading axis = term).
+        ``stress`` [Pa] and ``dominant``, the index into ``terms`` of the mechanism
+        carrying the largest share of the strain rate.
 
     Notes
     -----
@@ -361,11 +312,8 @@ def composite_stress(strain_rate, temperature, pressure, terms):
 
     .. math:: \\dot\\varepsilon = \\sum_i \\dot\\varepsilon_i(\\sigma)
 
-    The root is found in s = ln sigma, where ln(sum of rates) is monotonic (and convex
-    for power laws), by Newton steps kept inside a bracket [lo, hi]: hi is the lowest
-    stress at which one term alone reaches the rate, lo the lowest at which one term
-    alone reaches rate / N. The iteration works on the whole array at once and drops
-    points as they converge. Stress is infinite where no term can reach the rate.
+    Each point is solved by the compiled :func:`solve_log_stress`. Stress is infinite
+    where no term can reach the rate, and 0 below 1e-6 Pa.
 
     References
     ----------
@@ -377,103 +325,217 @@ def composite_stress(strain_rate, temperature, pressure, terms):
         raise RheologyError("terms: expected at least one creep mechanism, got none")
     pressure = np.asarray(pressure, float)
     shape = np.broadcast_shapes(
-        strain_rate.shape, temperature.shape, pressure.shape, *(np.shape(t.A) for t in terms)
+        strain_rate.shape,
+        temperature.shape,
+        pressure.shape,
+        *(np.shape(getattr(t, name)) for t in terms for name in TERM_FIELDS),
     )
-    log_target = np.broadcast_to(np.log(strain_rate), shape).ravel()
-    T = np.broadcast_to(temperature, shape).ravel()
-    P = np.broadcast_to(pressure, shape).ravel()
-    flat_terms = [_flatten(term, shape) for term in terms]
-    prepared = [t.prepare(T, P) for t in flat_terms]
-    log_n = np.log(len(terms))
-
-    hi = np.min([t.upper_bound(log_target, c) for t, c in zip(flat_terms, prepared)], axis=0)
-    lo = np.min(
-        [t.lower_bound(log_target - log_n, c) for t, c in zip(flat_terms, prepared)], axis=0
+    size = int(np.prod(shape))
+    table = term_table(terms, shape)
+    log_stress, dominant = _solve_points(
+        np.broadcast_to(np.log(strain_rate), shape).ravel(),
+        np.broadcast_to(temperature, shape).ravel(),
+        np.broadcast_to(pressure, shape).ravel(),
+        size,
+        *table,
     )
-    lo = np.maximum(np.minimum(lo, hi), _LOG_STRESS_FLOOR)
-    s = hi.copy()
-    if len(terms) > 1 or flat_terms[0].kind != "power":
-        s = _solve(s, lo, hi, log_target, flat_terms, prepared)
-    log_rates = np.array([t.log_rate(s, c) for t, c in zip(flat_terms, prepared)])
-    dominant = np.argmax(log_rates, axis=0)
-    with np.errstate(over="ignore"):
-        stress = np.exp(s)
-    stress = np.where(s <= _LOG_STRESS_FLOOR, 0.0, stress)
-    return CompositeResult(
-        stress.reshape(shape), dominant.reshape(shape), log_rates.reshape((len(terms), *shape))
-    )
+    return CompositeResult(stress_from_log(log_stress).reshape(shape), dominant.reshape(shape))
 
 
-_FIELDS = ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress")
+#: Fields of a :class:`CreepTerm`, in the order of :func:`term_table`.
+TERM_FIELDS = ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress")
+_POWER, _PEIERLS = 0, 1
 
 
-def _flatten(term, shape):
-    """Broadcast the term's array parameters to the grid, flattened; scalars stay scalars."""
-    fields = {}
-    for name in _FIELDS:
-        value = np.asarray(getattr(term, name), float)
-        fields[name] = value if value.ndim == 0 else np.broadcast_to(value, shape).ravel()
-    return CreepTerm(term.kind, **fields)
+def term_table(terms, shape=()):
+    """Pack creep terms for the compiled solver.
 
-
-def _subset(term, index):
-    fields = {}
-    for name in _FIELDS:
-        value = getattr(term, name)
-        fields[name] = value if value.ndim == 0 else value[index]
-    return CreepTerm(term.kind, **fields)
-
-
-def _solve(s, lo, hi, log_target, terms, prepared):
-    """Bracketed Newton iteration in ln(stress) on the unconverged points.
-
-    The working set (parameters gathered for the points still iterating) is compacted
-    only when fewer than half of its points are still live, so each step does not copy
-    every array again.
+    Returns ``(kind, log_A, n, Q, V, log_peierls, p, q, log_min)``: ``kind`` (K,) int64
+    (0 power law, 1 Peierls) and eight float arrays (K, M), M = 1 when every term's
+    value is one number, else the flattened ``shape`` (values broadcast to it).
     """
-    work = np.flatnonzero(np.isfinite(hi) & (hi > lo))
-    s[np.isinf(hi)] = np.inf
-    if work.size == s.size:
-        sub_terms, sub_prepared = list(terms), [tuple(pre) for pre in prepared]
-        sa, la, ha, target = s.copy(), lo.copy(), hi.copy(), log_target
+    kind = np.array([_POWER if t.kind == "power" else _PEIERLS for t in terms], np.int64)
+    size = int(np.prod(shape))
+    columns = []
+    with np.errstate(divide="ignore"):
+        for name in TERM_FIELDS:
+            values = [np.asarray(getattr(t, name), float) for t in terms]
+            if name in ("A", "peierls_stress", "min_stress"):
+                values = [np.log(v) for v in values]
+            if all(v.ndim == 0 for v in values):
+                columns.append(np.array(values, float).reshape(-1, 1))
+            else:
+                columns.append(np.stack([np.broadcast_to(v, shape).ravel() for v in values]))
+    if any(c.shape[1] not in (1, size) for c in columns):
+        raise RheologyError("terms: parameters do not broadcast against the grid")
+    return (kind, *columns)
+
+
+def stress_from_log(log_stress):
+    """Stress [Pa] from ln(stress): 0 at or below the solver floor, inf above the range."""
+    with np.errstate(over="ignore"):
+        stress = np.exp(log_stress)
+    return np.where(log_stress <= LOG_STRESS_FLOOR, 0.0, stress)
+
+
+# ------------------------------------------------------------------ compiled solver
+#
+# Scalar functions compiled with numba: one point at a time, called in a loop over points
+# by composite_stress and, node by node, by the column scans of rheology.columns. The
+# one solver serves both, so a batch of columns gives the single column's numbers.
+
+#: Solver tolerance on ln(strain rate): 1e-9 means a relative stress error below 1e-9.
+LOG_RATE_TOLERANCE = 1e-9
+MAX_ITERATIONS = 100
+#: Lowest stress the solver reports [Pa]: below it a rock is, for envelopes, strengthless.
+LOG_STRESS_FLOOR = math.log(1e-6)
+#: A term whose rate is below exp(-40) of the largest one adds nothing in double precision.
+_NEGLIGIBLE = 40.0
+
+
+@compiled
+def arrhenius(Q, V, pressure, temperature):
+    """(Q + P V) / (R T) for one point (compiled; see :func:`arrhenius_exponent`)."""
+    return (Q + pressure * V) / (GAS_CONSTANT * temperature)
+
+
+@compiled
+def term_log_rate(kind, s, a, H, n, log_sp, p, q, log_min):
+    """ln(rate) of one term at ln(stress) ``s``, and its slope d ln(rate) / d ln(stress).
+
+    ``a`` is ln A - H for a power law and ln A for a Peierls term, H = (Q + PV)/RT.
+    """
+    if kind == _POWER:
+        return a + n * s, n  # ln of A sigma^n exp(-H)
+    if s < log_min:
+        return -np.inf, n  # below the stress where the law applies
+    if s >= log_sp:
+        return a + n * s, n  # above sigma_P the bracket is zero
+    x = math.exp(p * (s - log_sp))  # (sigma / sigma_P)^p
+    bracket = 1.0 - x
+    if q == 1.0:
+        power, slope = bracket, 1.0
+    elif q == 2.0:
+        power, slope = bracket * bracket, 2.0 * bracket
     else:
-        sub_terms = [_subset(t, work) for t in terms]
-        sub_prepared = [tuple(c[work] for c in pre) for pre in prepared]
-        sa, la, ha, target = s[work], lo[work], hi[work], log_target[work]
-    live = np.ones(work.size, bool)
-    for _ in range(_MAX_ITERATIONS):
-        count = int(np.count_nonzero(live))
-        if count == 0:
-            break
-        if count < live.size // 2:  # compact, writing the finished points back first
-            s[work[~live]] = sa[~live]
-            keep = np.flatnonzero(live)
-            work = work[keep]
-            sub_terms = [_subset(t, keep) for t in sub_terms]
-            sub_prepared = [tuple(c[keep] for c in pre) for pre in sub_prepared]
-            sa, la, ha, target = sa[keep], la[keep], ha[keep], target[keep]
-            live = np.ones(work.size, bool)
-        values, slopes = zip(
-            *(t.log_rate(sa, c, with_slope=True) for t, c in zip(sub_terms, sub_prepared))
+        power, slope = bracket**q, q * bracket ** (q - 1.0)
+    return a + n * s - H * power, n + H * slope * p * x  # Goetze 1978; Mei et al. 2010
+
+
+@compiled
+def _term_bounds(kind, target, a, n, log_sp, log_min, log_count):
+    """Bounds of the composite root from one term alone.
+
+    Returns the ln(stress) at which the term alone reaches ``target`` (an upper bound of
+    the root) and the one below which it cannot reach target - ln(count) (a lower bound).
+    """
+    if kind == _POWER:
+        return (target - a) / n, (target - log_count - a) / n
+    if n > 0:
+        upper = max(log_sp, (target - a) / n)  # at and above sigma_P the rate is A sigma^n
+        lower = max((target - log_count - a) / n, log_min)  # the bracket is at most 1
+    else:
+        upper = log_sp if a >= target else np.inf  # the rate never exceeds A
+        lower = log_min
+    return upper, lower
+
+
+@compiled
+def _total_log_rate(s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes):
+    """ln(sum of the terms' rates) at ``s``, its slope, and the index of the largest term."""
+    peak, top = -np.inf, first
+    for t in range(first, first + count):
+        values[t], slopes[t] = term_log_rate(
+            kind[t], s, a[t], H[t], n[t], log_sp[t], p[t], q[t], log_min[t]
         )
-        values = np.array(values)
-        peak = np.max(values, axis=0)
-        weights = np.exp(values - peak)
-        total = weights.sum(axis=0)
-        residual = peak + np.log(total) - target  # ln(sum of rates) - ln(target)
-        slope = np.sum(weights * np.array(slopes), axis=0) / total
-        done = np.abs(residual) < _LOG_RATE_TOLERANCE
-        new_hi = np.where(residual > 0, sa, ha)
-        new_lo = np.where(residual < 0, sa, la)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = sa - residual / slope
-        inside = (step > new_lo) & (step < new_hi) & np.isfinite(step)
-        new = np.where(inside, step, 0.5 * (new_lo + new_hi))
-        done |= (new_hi - new_lo) < 1e-12
-        move = live & ~done
-        sa = np.where(move, new, sa)
-        la = np.where(live, new_lo, la)
-        ha = np.where(live, new_hi, ha)
-        live = move
-    s[work] = sa
-    return s
+        if values[t] > peak:
+            peak, top = values[t], t
+    if peak == -np.inf:
+        return -np.inf, np.nan, top
+    total, weighted = 0.0, 0.0
+    for t in range(first, first + count):
+        if values[t] >= peak - _NEGLIGIBLE:
+            w = math.exp(values[t] - peak)
+            total += w
+            weighted += w * slopes[t]
+    return peak + math.log(total), weighted / total, top
+
+
+@compiled
+def solve_log_stress(target, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes):
+    """ln(stress) at which terms ``first .. first+count-1`` add up to the rate exp(target).
+
+    Parameters are per-term arrays for one point (see :func:`term_log_rate`); ``values``
+    and ``slopes`` are scratch arrays of the same length. Returns ln(stress) and the
+    index of the dominant term.
+
+    The root is found in s = ln(stress), where ln(sum of rates) is monotonic (and convex
+    for power laws), by Newton steps kept inside a bracket [lo, hi]: hi is the lowest
+    stress at which one term alone reaches the rate, lo the lowest at which one term
+    alone reaches rate / count. Newton steps that leave the bracket are replaced by
+    bisection. A single power law is its closed form, hi (Brace & Kohlstedt 1980).
+    """
+    log_count = math.log(count)
+    hi, lo = np.inf, np.inf
+    for t in range(first, first + count):
+        upper, lower = _term_bounds(kind[t], target, a[t], n[t], log_sp[t], log_min[t], log_count)
+        hi = min(hi, upper)
+        lo = min(lo, lower)
+    lo = max(min(lo, hi), LOG_STRESS_FLOOR)
+    s = hi
+    if count == 1 and kind[first] == _POWER:
+        return s, first
+    if not (hi < np.inf and hi > lo):
+        return s, _total_log_rate(
+            s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes
+        )[2]
+    for _ in range(MAX_ITERATIONS):
+        total, slope, top = _total_log_rate(
+            s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes
+        )
+        residual = total - target  # ln(sum of rates) - ln(target)
+        if abs(residual) < LOG_RATE_TOLERANCE:
+            return s, top
+        if residual > 0:
+            hi = s
+        elif residual < 0:
+            lo = s
+        if hi - lo < 1e-12:
+            return s, top
+        step = s - residual / slope
+        s = step if lo < step < hi else 0.5 * (lo + hi)
+    return s, _total_log_rate(
+        s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes
+    )[2]
+
+
+@compiled
+def _solve_points(
+    log_target, temperature, pressure, size, kind, log_A, n, Q, V, log_sp, p, q, log_min
+):
+    """solve_log_stress at every point; term parameters (K, 1) or (K, size)."""
+    count = kind.size
+    a, H, nn = np.empty(count), np.empty(count), np.empty(count)
+    sp, pp, qq, lm = np.empty(count), np.empty(count), np.empty(count), np.empty(count)
+    values, slopes = np.empty(count), np.empty(count)
+    out = np.empty(size)
+    dominant = np.empty(size, np.int64)
+    for i in range(size):
+        for t in range(count):
+            H[t] = arrhenius(
+                Q[t, min(i, Q.shape[1] - 1)],
+                V[t, min(i, V.shape[1] - 1)],
+                pressure[i],
+                temperature[i],
+            )
+            la = log_A[t, min(i, log_A.shape[1] - 1)]
+            a[t] = la - H[t] if kind[t] == _POWER else la
+            nn[t] = n[t, min(i, n.shape[1] - 1)]
+            sp[t] = log_sp[t, min(i, log_sp.shape[1] - 1)]
+            pp[t] = p[t, min(i, p.shape[1] - 1)]
+            qq[t] = q[t, min(i, q.shape[1] - 1)]
+            lm[t] = log_min[t, min(i, log_min.shape[1] - 1)]
+        out[i], dominant[i] = solve_log_stress(
+            log_target[i], kind, a, H, nn, sp, pp, qq, lm, 0, count, values, slopes
+        )
+    return out, dominant
