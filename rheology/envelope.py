@@ -14,20 +14,31 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from rheology.model import Scenario
-from rheology.physics import creep, friction, geotherm, pressure
-
-#: Mechanism codes used in :attr:`Envelope.mechanism`.
-MECHANISMS = (
-    "frictional sliding",
-    "semi-brittle",
-    "dislocation creep",
-    "diffusion creep",
-    "low-temperature plasticity",
+from rheology.columns import (
+    CREEP_CODES,
+    FRICTIONAL,
+    MECHANISMS,
+    SEMI_BRITTLE,
+    ColumnInputs,
+    LawTable,
+    node_rows,
+    scan_fields,
 )
-FRICTIONAL, SEMI_BRITTLE = 0, 1
-#: Mechanism code of each flow-law mechanism.
-CREEP_CODES = {"dislocation": 2, "diffusion": 3, "peierls": 4}
+from rheology.model import Scenario
+from rheology.physics import friction, geotherm, pressure
+
+__all__ = [
+    "CREEP_CODES",
+    "FRICTIONAL",
+    "MECHANISMS",
+    "SEMI_BRITTLE",
+    "Envelope",
+    "Variation",
+    "column_inputs",
+    "compute_envelope",
+    "depth_grid",
+    "evaluate",
+]
 
 
 @dataclass(frozen=True)
@@ -247,6 +258,13 @@ def layer_terms(scenario: Scenario, variation: Variation | None = None):
     return terms
 
 
+def law_table(scenario: Scenario, variation: Variation | None = None) -> LawTable:
+    """The creep laws of every layer packed for the column scans (see :func:`layer_terms`)."""
+    codes = [[CREEP_CODES[law.mechanism] for law in ly.rock.laws] for ly in scenario.layers]
+    size = 1 if variation is None else variation.size
+    return LawTable.from_terms(layer_terms(scenario, variation), codes, size)
+
+
 def assign_layers(scenario: Scenario, depth, variation: Variation | None = None):
     """Layer index of each depth node (a node on a boundary belongs to the lower layer)."""
     depth = np.asarray(depth, float)
@@ -257,53 +275,58 @@ def assign_layers(scenario: Scenario, depth, variation: Variation | None = None)
     return np.sum(depth[..., None] >= bases[:, None, :], axis=-1)
 
 
-def _frictional(scenario, lithostatic, fluid, variation):
+def _friction_rows(scenario: Scenario, variation: Variation | None) -> np.ndarray:
+    """Slope and intercept of both frictional branches, (1 or R, 4)."""
     f = scenario.friction
-    scale = (
-        1.0
-        if variation is None or variation.friction_scale is None
-        else _column(variation.friction_scale)
-    )
+    scale = 1.0
+    if variation is not None and variation.friction_scale is not None:
+        scale = np.asarray(variation.friction_scale, float)
     regimes = None if variation is None else variation.faulting
     if regimes is None:
-        return friction.frictional_strength(
-            lithostatic, fluid, scenario.faulting, f.mu, f.cohesion, mu_scale=scale
+        slope, intercept = friction.frictional_coefficients(
+            scenario.faulting, f.mu, f.cohesion, scale
         )
-    regimes = np.asarray(regimes)
-    shape = np.broadcast_shapes(np.shape(lithostatic), np.shape(fluid), (regimes.size, 1))
-    lithostatic, fluid = np.broadcast_to(lithostatic, shape), np.broadcast_to(fluid, shape)
-    scale = np.broadcast_to(scale, (regimes.size, 1))
-    out = np.empty(shape)
-    for regime in np.unique(regimes):  # each realisation's rows, once
-        rows = regimes == regime
-        out[rows] = friction.frictional_strength(
-            lithostatic[rows], fluid[rows], str(regime), f.mu, f.cohesion, mu_scale=scale[rows]
-        )
-    return out
+    else:
+        regimes = np.asarray(regimes)
+        scale = np.broadcast_to(scale, regimes.shape)
+        slope, intercept = np.empty((regimes.size, 2)), np.empty((regimes.size, 2))
+        for regime in np.unique(regimes):  # each realisation's rows, once
+            rows = regimes == regime
+            slope[rows], intercept[rows] = friction.frictional_coefficients(
+                str(regime), f.mu, f.cohesion, scale[rows]
+            )
+    packed = np.stack([slope[..., 0], intercept[..., 0], slope[..., 1], intercept[..., 1]], -1)
+    return np.ascontiguousarray(packed.reshape(-1, 4))
 
 
-def evaluate(
-    scenario: Scenario, depth, layer=None, *, variation: Variation | None = None, terms=None
-) -> dict[str, np.ndarray]:
-    """All envelope fields at ``depth`` [m] nodes.
+def column_inputs(
+    scenario: Scenario,
+    depth,
+    layer=None,
+    *,
+    variation: Variation | None = None,
+    laws: LawTable | None = None,
+) -> tuple[ColumnInputs, dict[str, np.ndarray]]:
+    """Inputs of the column scans, from the numpy physics (geotherm, pressures, friction).
 
     Parameters
     ----------
     scenario : Scenario
     depth : array_like
-        Depth nodes [m], shape (nz,).
+        Depth nodes [m], shape (nz,) or (R, nz).
     layer : array_like of int, optional
         Layer of each node; by default from the layer thicknesses.
     variation : Variation, optional
-        Per-realisation inputs; results then have shape (R, nz).
-    terms : list, optional
-        Prepared creep terms (:func:`layer_terms`) to reuse.
+        Per-realisation inputs (R = ``variation.size`` columns).
+    laws : LawTable, optional
+        Packed creep laws (:func:`law_table`) to reuse.
 
     Returns
     -------
-    dict
-        depth, layer, temperature, heat_flow, lithostatic, pore_pressure, brittle, ductile,
-        strength, mechanism (codes into :data:`MECHANISMS`).
+    inputs : rheology.columns.ColumnInputs
+    fields : dict
+        depth, layer, temperature, heat_flow, lithostatic, pore_pressure as computed
+        (shapes (nz,) or (R, nz)).
     """
     depth = np.asarray(depth, float)
     layer = assign_layers(scenario, depth, variation) if layer is None else np.asarray(layer)
@@ -315,74 +338,70 @@ def evaluate(
         depth, thickness, [ly.density for ly in scenario.layers]
     )
     fluid = pore_pressure(scenario, depth, lithostatic, variation)
-    brittle = _frictional(scenario, lithostatic, fluid, variation)
-    strain_rate = (
-        scenario.strain_rate
-        if variation is None or variation.strain_rate is None
-        else _column(variation.strain_rate)
+    strain_rate = scenario.strain_rate
+    if variation is not None and variation.strain_rate is not None:
+        strain_rate = np.asarray(variation.strain_rate, float)
+    size = 1 if variation is None else int(variation.size)
+    inputs = ColumnInputs(
+        size=size,
+        depth=node_rows(depth, size),
+        layer=node_rows(np.broadcast_to(layer, np.shape(depth)), size, np.int64),
+        temperature=node_rows(temperature, size),
+        lithostatic=node_rows(lithostatic, size),
+        pore_pressure=node_rows(fluid, size),
+        log_rate=np.log(np.asarray(strain_rate, float)).reshape(-1),
+        friction=_friction_rows(scenario, variation),
+        laws=law_table(scenario, variation) if laws is None else laws,
     )
-    shape = np.broadcast_shapes(
-        depth.shape, np.shape(temperature), np.shape(brittle), np.shape(strain_rate), layer.shape
-    )
-    ductile = np.empty(shape)
-    creep_code = np.empty(shape, dtype=np.int8)
-    terms = layer_terms(scenario, variation) if terms is None else terms
-    for index, layer_def in enumerate(scenario.layers):
-        at = layer == index
-        if not np.any(at):
-            continue
-        pick = _picker(at, shape)
-        layer_terms_at = [_pick_term(term, pick) for term in terms[index]]
-        result = creep.composite_stress(
-            pick(strain_rate), pick(temperature), pick(lithostatic), layer_terms_at
-        )
-        codes = np.array([CREEP_CODES[law.mechanism] for law in layer_def.rock.laws], np.int8)
-        where = (Ellipsis, at) if at.ndim == 1 else np.broadcast_to(at, shape)
-        ductile[where] = result.stress
-        creep_code[where] = codes[result.dominant]
-    brittle = np.broadcast_to(brittle, shape)
-    strength = np.minimum(brittle, ductile)
-    effective = lithostatic - fluid
-    mechanism = np.where(
-        brittle <= ductile, FRICTIONAL, np.where(ductile > effective, SEMI_BRITTLE, creep_code)
-    ).astype(np.int8)
-    return dict(
+    fields = dict(
         depth=depth,
         layer=layer,
         temperature=temperature,
         heat_flow=heat_flow,
         lithostatic=lithostatic,
         pore_pressure=fluid,
+    )
+    return inputs, fields
+
+
+def evaluate(
+    scenario: Scenario, depth, layer=None, *, variation: Variation | None = None, terms=None
+) -> dict[str, np.ndarray]:
+    """All envelope fields at ``depth`` [m] nodes.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    depth : array_like
+        Depth nodes [m], shape (nz,) or (R, nz).
+    layer : array_like of int, optional
+        Layer of each node; by default from the layer thicknesses.
+    variation : Variation, optional
+        Per-realisation inputs; results then have shape (R, nz) when anything varies.
+    terms : LawTable, optional
+        Packed creep laws (:func:`law_table`) to reuse.
+
+    Returns
+    -------
+    dict
+        depth, layer, temperature, heat_flow, lithostatic, pore_pressure, brittle, ductile,
+        strength, mechanism (codes into :data:`MECHANISMS`).
+    """
+    inputs, fields = column_inputs(scenario, depth, layer, variation=variation, laws=terms)
+    rows = max(
+        len(a) for a in (*inputs.node_arrays()[:7], inputs.laws.values)
+    )  # columns that differ
+    scanned = scan_fields(replace(inputs, size=rows))
+    if rows == 1 and np.ndim(fields["depth"]) < 2:
+        scanned = {name: value[0] for name, value in scanned.items()}
+    brittle, ductile = scanned["brittle"], scanned["ductile"]
+    return dict(
+        fields,
         brittle=brittle,
         ductile=ductile,
-        strength=strength,
-        mechanism=mechanism,
+        strength=np.minimum(brittle, ductile),
+        mechanism=scanned["mechanism"],
     )
-
-
-def _picker(at, shape):
-    """Function cutting an array (or broadcastable parameter) to the nodes where ``at``."""
-    if at.ndim == 1:  # same layering in every realisation: slice the depth axis
-
-        def pick(x):
-            x = np.asarray(x, float)
-            return x[..., at] if x.ndim and x.shape[-1] == at.size else x
-    else:
-        mask = np.broadcast_to(at, shape)
-
-        def pick(x):
-            return np.broadcast_to(np.asarray(x, float), shape)[mask]
-
-    return pick
-
-
-def _pick_term(term: creep.CreepTerm, pick) -> creep.CreepTerm:
-    """The term with its per-realisation (R, 1) parameters cut to the nodes picked."""
-    fields = {}
-    for name in ("A", "n", "Q", "V", "peierls_stress", "p", "q", "min_stress"):
-        value = np.asarray(getattr(term, name), float)
-        fields[name] = pick(value) if value.ndim else value
-    return creep.CreepTerm(term.kind, **fields)
 
 
 def compute_envelope(scenario: Scenario, *, faulting: str | None = None) -> Envelope:

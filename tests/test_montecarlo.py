@@ -132,7 +132,7 @@ def test_batch_interpolation_is_second_order_in_the_grid_step(demo):
         scenario = replace(demo, depth_step=step)
         analysis = rheology.analyse(scenario)
         depth, layer = depth_grid(scenario)
-        answers = column_answers(evaluate(scenario, depth, layer), 1)
+        answers = column_answers(scenario, depth, layer).answers
         errors.append(abs(answers.first_down_depth[0] - analysis.transitions[0].depth))
     assert 2.5 < errors[0] / errors[1] < 6.0
 
@@ -164,7 +164,7 @@ def test_batch_crossover_of_gleason_tullis_quartzite_matches_reference_table():
     )
     depth, layer = depth_grid(scenario)
     variation = Variation(size=2, pore_pressure_ratio=np.array([0.0, 0.37]))
-    answers = column_answers(evaluate(scenario, depth, layer, variation=variation))
+    answers = column_answers(scenario, depth, layer, variation).answers
     # 0.005 km: the table's rounding; 0.6 degC: its rounding to whole degrees plus the
     # depth rounding (0.005 km x 25 K/km)
     assert answers.first_down_depth / KM == pytest.approx([9.44, 9.92], abs=0.005)

@@ -18,7 +18,7 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from rheology.envelope import MECHANISMS, Envelope, evaluate, layer_terms
+from rheology.envelope import MECHANISMS, Envelope, evaluate, law_table
 
 BRITTLE_TO_DUCTILE = "brittle-to-ductile"
 DUCTILE_TO_BRITTLE = "ductile-to-brittle"
@@ -92,7 +92,7 @@ def _log_ratio(fields, numerator, denominator):
 def find_transitions(envelope: Envelope) -> list[Transition]:
     """All brittle/ductile switches of ``envelope``, shallow first."""
     scenario = envelope.scenario
-    terms = layer_terms(scenario)
+    terms = law_table(scenario)
     names = [layer.name for layer in scenario.layers]
     brittle_wins = envelope.brittle <= envelope.ductile
     j = np.flatnonzero(brittle_wins[1:] != brittle_wins[:-1])
@@ -142,7 +142,7 @@ def goetze_depths(envelope: Envelope) -> list[float]:
     Kohlstedt et al. 1995); crossings are root-searched like transitions.
     """
     scenario = envelope.scenario
-    terms = layer_terms(scenario)
+    terms = law_table(scenario)
     plastic = envelope.ductile <= envelope.effective_pressure
     ductile = envelope.brittle > envelope.ductile
     j = np.flatnonzero(~plastic[:-1] & plastic[1:] & ductile[:-1] & ductile[1:])

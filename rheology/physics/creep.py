@@ -390,7 +390,7 @@ MAX_ITERATIONS = 100
 #: Lowest stress the solver reports [Pa]: below it a rock is, for envelopes, strengthless.
 LOG_STRESS_FLOOR = math.log(1e-6)
 #: A term whose rate is below exp(-40) of the largest one adds nothing in double precision.
-_NEGLIGIBLE = 40.0
+NEGLIGIBLE = 40.0
 
 
 @compiled
@@ -423,90 +423,151 @@ def term_log_rate(kind, s, a, H, n, log_sp, p, q, log_min):
 
 
 @compiled
-def _term_bounds(kind, target, a, n, log_sp, log_min, log_count):
-    """Bounds of the composite root from one term alone.
+def power_law_log_stress(target, a, n):
+    """ln(stress) of one power law at ln(rate) ``target``; ``a`` = ln A - H (closed form)."""
+    return (target - a) / n  # Brace & Kohlstedt (1980)
 
-    Returns the ln(stress) at which the term alone reaches ``target`` (an upper bound of
-    the root) and the one below which it cannot reach target - ln(count) (a lower bound).
-    """
+
+#: Columns of the work array of :func:`solve_log_stress` (one row per term).
+KIND, A_TERM, H_TERM, N_TERM, LOG_SP, P_TERM, Q_TERM, LOG_MIN, VALUE, SLOPE = range(10)
+WORK_COLUMNS = 10
+
+
+@compiled
+def _upper_bound(kind, target, a, n, log_sp):
+    """ln(stress) at which a term alone reaches ln(rate) ``target``: no root lies above."""
     if kind == _POWER:
-        return (target - a) / n, (target - log_count - a) / n
-    if n > 0:
-        upper = max(log_sp, (target - a) / n)  # at and above sigma_P the rate is A sigma^n
-        lower = max((target - log_count - a) / n, log_min)  # the bracket is at most 1
-    else:
-        upper = log_sp if a >= target else np.inf  # the rate never exceeds A
-        lower = log_min
-    return upper, lower
+        return power_law_log_stress(target, a, n)
+    if n > 0:  # at and above sigma_P the rate is A sigma^n
+        return max(log_sp, (target - a) / n)
+    return log_sp if a >= target else np.inf  # the rate never exceeds A
 
 
 @compiled
-def _total_log_rate(s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes):
-    """ln(sum of the terms' rates) at ``s``, its slope, and the index of the largest term."""
-    peak, top = -np.inf, first
-    for t in range(first, first + count):
-        values[t], slopes[t] = term_log_rate(
-            kind[t], s, a[t], H[t], n[t], log_sp[t], p[t], q[t], log_min[t]
-        )
-        if values[t] > peak:
-            peak, top = values[t], t
-    if peak == -np.inf:
-        return -np.inf, np.nan, top
-    total, weighted = 0.0, 0.0
-    for t in range(first, first + count):
-        if values[t] >= peak - _NEGLIGIBLE:
-            w = math.exp(values[t] - peak)
-            total += w
-            weighted += w * slopes[t]
-    return peak + math.log(total), weighted / total, top
+def _lower_bound(kind, target, a, n, log_min):
+    """ln(stress) below which a term alone cannot reach ln(rate) ``target``."""
+    if kind == _POWER:
+        return power_law_log_stress(target, a, n)
+    if n > 0:  # the Arrhenius bracket is at most 1: rate <= A sigma^n
+        return max((target - a) / n, log_min)
+    return log_min
 
 
-@compiled
-def solve_log_stress(target, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes):
+@compiled(inline="always")
+def solve_log_stress(target, work, first, count):
     """ln(stress) at which terms ``first .. first+count-1`` add up to the rate exp(target).
 
-    Parameters are per-term arrays for one point (see :func:`term_log_rate`); ``values``
-    and ``slopes`` are scratch arrays of the same length. Returns ln(stress) and the
-    index of the dominant term.
+    ``work`` holds one row per term (columns :data:`KIND` ... :data:`SLOPE`: kind, a, H,
+    n, ln sigma_P, p, q, ln lowest stress, then two scratch columns; a and H as in
+    :func:`term_log_rate`). Returns ln(stress) and the row of the dominant term.
 
     The root is found in s = ln(stress), where ln(sum of rates) is monotonic (and convex
     for power laws), by Newton steps kept inside a bracket [lo, hi]: hi is the lowest
     stress at which one term alone reaches the rate, lo the lowest at which one term
     alone reaches rate / count. Newton steps that leave the bracket are replaced by
-    bisection. A single power law is its closed form, hi (Brace & Kohlstedt 1980).
+    bisection. Where a Peierls term switches on (its lowest stress) the total rate jumps:
+    that stress is tried first, and a target rate inside the jump gives that stress. A
+    single power law is its closed form (Brace & Kohlstedt 1980).
     """
-    log_count = math.log(count)
-    hi, lo = np.inf, np.inf
+    if count == 1 and work[first, KIND] == _POWER:
+        return power_law_log_stress(target, work[first, A_TERM], work[first, N_TERM]), first
+    hi = np.inf
     for t in range(first, first + count):
-        upper, lower = _term_bounds(kind[t], target, a[t], n[t], log_sp[t], log_min[t], log_count)
-        hi = min(hi, upper)
-        lo = min(lo, lower)
-    lo = max(min(lo, hi), LOG_STRESS_FLOOR)
-    s = hi
-    if count == 1 and kind[first] == _POWER:
-        return s, first
-    if not (hi < np.inf and hi > lo):
-        return s, _total_log_rate(
-            s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes
-        )[2]
-    for _ in range(MAX_ITERATIONS):
-        total, slope, top = _total_log_rate(
-            s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes
+        upper = _upper_bound(
+            int(work[t, KIND]), target, work[t, A_TERM], work[t, N_TERM], work[t, LOG_SP]
         )
+        hi = min(hi, upper)
+    lo, s, hi_top, tested = -np.inf, hi, first, 0
+    at_edge = below_edge = False
+    for iteration in range(MAX_ITERATIONS):
+        # ln(sum of the rates) at s, its slope and the largest term (one place, no calls
+        # with arrays: this loop is the hot path of every envelope)
+        peak, top = -np.inf, first
+        for t in range(first, first + count):
+            value, slope = term_log_rate(
+                int(work[t, KIND]),
+                s,
+                work[t, A_TERM],
+                work[t, H_TERM],
+                work[t, N_TERM],
+                work[t, LOG_SP],
+                work[t, P_TERM],
+                work[t, Q_TERM],
+                work[t, LOG_MIN],
+            )
+            work[t, VALUE], work[t, SLOPE] = value, slope
+            if value > peak:
+                peak, top = value, t
+        total, slope = -np.inf, np.nan
+        if peak > -np.inf:
+            weight, weighted = 1.0, work[top, SLOPE]  # rates relative to the largest
+            for t in range(first, first + count):
+                if t != top and work[t, VALUE] >= peak - NEGLIGIBLE:
+                    w = math.exp(work[t, VALUE] - peak)
+                    weight += w
+                    weighted += w * work[t, SLOPE]
+            total, slope = peak, weighted
+            if weight != 1.0:
+                total, slope = peak + math.log(weight), weighted / weight
         residual = total - target  # ln(sum of rates) - ln(target)
+        if below_edge:  # just below an edge where the total rate passed the target
+            if residual < 0:
+                return hi, hi_top  # the target lies inside the jump
+            below_edge = False
         if abs(residual) < LOG_RATE_TOLERANCE:
             return s, top
+        if iteration == 0:  # at hi
+            if not hi < np.inf:
+                return s, top  # no term reaches the rate
+            hi_top, low = top, np.inf
+            for t in range(first, first + count):
+                lower = _lower_bound(
+                    int(work[t, KIND]),
+                    target - math.log(count),
+                    work[t, A_TERM],
+                    work[t, N_TERM],
+                    work[t, LOG_MIN],
+                )
+                low = min(low, lower)
+            lo = max(min(low, hi), LOG_STRESS_FLOOR)
+            if not hi > lo:
+                return s, top
         if residual > 0:
-            hi = s
+            hi, hi_top = s, top
         elif residual < 0:
             lo = s
         if hi - lo < 1e-12:
             return s, top
-        step = s - residual / slope
-        s = step if lo < step < hi else 0.5 * (lo + hi)
-    return s, _total_log_rate(
-        s, kind, a, H, n, log_sp, p, q, log_min, first, count, values, slopes
-    )[2]
+        if at_edge and residual > 0:  # the rate passed the target at an edge: look below
+            at_edge, below_edge = False, True
+            s = np.nextafter(s, -np.inf)
+            continue
+        at_edge = False
+        for t in range(first, first + count):  # an untested edge inside the bracket first
+            edge, bit = work[t, LOG_MIN], 1 << (t - first)
+            if work[t, KIND] != _POWER and not tested & bit and lo <= edge < hi:
+                tested |= bit
+                at_edge = True
+                s = edge
+                break
+        if not at_edge:
+            step = s - residual / slope
+            s = step if lo < step < hi else 0.5 * (lo + hi)
+    return s, top
+
+
+@compiled
+def set_term(work, t, kind, log_A, n, Q, V, log_sp, p, q, log_min, pressure, temperature):
+    """Fill row ``t`` of a solver work array for one term at (pressure [Pa], T [K])."""
+    H = arrhenius(Q, V, pressure, temperature)
+    work[t, KIND] = kind
+    work[t, A_TERM] = log_A - H if kind == _POWER else log_A
+    work[t, H_TERM] = H
+    work[t, N_TERM] = n
+    work[t, LOG_SP] = log_sp
+    work[t, P_TERM] = p
+    work[t, Q_TERM] = q
+    work[t, LOG_MIN] = log_min
 
 
 @compiled
@@ -515,27 +576,25 @@ def _solve_points(
 ):
     """solve_log_stress at every point; term parameters (K, 1) or (K, size)."""
     count = kind.size
-    a, H, nn = np.empty(count), np.empty(count), np.empty(count)
-    sp, pp, qq, lm = np.empty(count), np.empty(count), np.empty(count), np.empty(count)
-    values, slopes = np.empty(count), np.empty(count)
+    work = np.empty((count, WORK_COLUMNS))
     out = np.empty(size)
     dominant = np.empty(size, np.int64)
     for i in range(size):
         for t in range(count):
-            H[t] = arrhenius(
+            set_term(
+                work,
+                t,
+                kind[t],
+                log_A[t, min(i, log_A.shape[1] - 1)],
+                n[t, min(i, n.shape[1] - 1)],
                 Q[t, min(i, Q.shape[1] - 1)],
                 V[t, min(i, V.shape[1] - 1)],
+                log_sp[t, min(i, log_sp.shape[1] - 1)],
+                p[t, min(i, p.shape[1] - 1)],
+                q[t, min(i, q.shape[1] - 1)],
+                log_min[t, min(i, log_min.shape[1] - 1)],
                 pressure[i],
                 temperature[i],
             )
-            la = log_A[t, min(i, log_A.shape[1] - 1)]
-            a[t] = la - H[t] if kind[t] == _POWER else la
-            nn[t] = n[t, min(i, n.shape[1] - 1)]
-            sp[t] = log_sp[t, min(i, log_sp.shape[1] - 1)]
-            pp[t] = p[t, min(i, p.shape[1] - 1)]
-            qq[t] = q[t, min(i, q.shape[1] - 1)]
-            lm[t] = log_min[t, min(i, log_min.shape[1] - 1)]
-        out[i], dominant[i] = solve_log_stress(
-            log_target[i], kind, a, H, nn, sp, pp, qq, lm, 0, count, values, slopes
-        )
+        out[i], dominant[i] = solve_log_stress(log_target[i], work, 0, count)
     return out, dominant

@@ -76,6 +76,50 @@ def friction_ratio(mu):
     return (np.sqrt(1.0 + mu**2) + mu) ** 2
 
 
+def andersonian_coefficients(mu, cohesion, regime):
+    """Slope and intercept of frictional slip: sigma1 - sigma3 = slope sigma_v' + intercept.
+
+    Parameters
+    ----------
+    mu : array_like
+        Friction coefficient.
+    cohesion : array_like
+        Cohesion C [Pa].
+    regime : {"thrust", "strike-slip", "normal"}
+        Andersonian faulting regime.
+
+    Returns
+    -------
+    slope : numpy.ndarray
+        Dimensionless.
+    intercept : numpy.ndarray
+        [Pa].
+
+    Notes
+    -----
+    From sigma1' = R sigma3' + 2 C sqrt(R) (Jaeger et al. 2007, sec. 4.6):
+
+    * thrust (sigma3 = sigma_v): (R - 1) sigma_v' + 2 C sqrt(R)
+    * normal (sigma1 = sigma_v): (1 - 1/R) sigma_v' + 2 C / sqrt(R)
+    * strike-slip with sigma_v = (sigma1 + sigma3)/2:
+      2 (R - 1)/(R + 1) sigma_v' + 4 C sqrt(R)/(R + 1)
+
+    References
+    ----------
+    Sibson, R. H. (1974). Nature 249, 542-544. Anderson, E. M. (1951). *The Dynamics
+    of Faulting*, 2nd ed., Oliver & Boyd.
+    """
+    check_regime(regime)
+    ratio = friction_ratio(mu)
+    root = np.sqrt(ratio)
+    cohesion = np.asarray(cohesion, float)
+    if regime == "thrust":
+        return ratio - 1.0, 2.0 * cohesion * root
+    if regime == "normal":
+        return 1.0 - 1.0 / ratio, 2.0 * cohesion / root
+    return 2.0 * (ratio - 1.0) / (ratio + 1.0), 4.0 * cohesion * root / (ratio + 1.0)
+
+
 def andersonian_differential_stress(vertical_effective_stress, mu, cohesion, regime):
     """Differential stress sigma1 - sigma3 [Pa] at frictional slip, per Andersonian regime.
 
@@ -93,32 +137,11 @@ def andersonian_differential_stress(vertical_effective_stress, mu, cohesion, reg
     Returns
     -------
     numpy.ndarray
-        Differential stress [Pa].
-
-    Notes
-    -----
-    From sigma1' = R sigma3' + 2 C sqrt(R) (Jaeger et al. 2007, eq. 4.6.x form):
-
-    * thrust: (R - 1) sigma_v' + 2 C sqrt(R)
-    * normal: (1 - 1/R) sigma_v' + 2 C / sqrt(R)
-    * strike-slip with sigma_v = (sigma1 + sigma3)/2:
-      2 (R - 1)/(R + 1) sigma_v' + 4 C sqrt(R)/(R + 1)
-
-    References
-    ----------
-    Sibson, R. H. (1974). Nature 249, 542-544. Anderson, E. M. (1951). *The Dynamics
-    of Faulting*, 2nd ed., Oliver & Boyd.
+        Differential stress [Pa], ``slope * sigma_v' + intercept`` with the coefficients
+        of :func:`andersonian_coefficients`.
     """
-    check_regime(regime)
-    sv = np.asarray(vertical_effective_stress, float)
-    ratio = friction_ratio(mu)
-    root = np.sqrt(ratio)
-    cohesion = np.asarray(cohesion, float)
-    if regime == "thrust":
-        return (ratio - 1.0) * sv + 2.0 * cohesion * root
-    if regime == "normal":
-        return (1.0 - 1.0 / ratio) * sv + 2.0 * cohesion / root
-    return 2.0 * (ratio - 1.0) / (ratio + 1.0) * sv + 4.0 * cohesion * root / (ratio + 1.0)
+    slope, intercept = andersonian_coefficients(mu, cohesion, regime)
+    return slope * np.asarray(vertical_effective_stress, float) + intercept
 
 
 def byerlee_differential_stress(vertical_stress, pore_pressure, regime, mu_scale=1.0):
@@ -152,6 +175,38 @@ def byerlee_differential_stress(vertical_stress, pore_pressure, regime, mu_scale
         effective, BYERLEE_HIGH[0] * mu_scale, BYERLEE_HIGH[1], regime
     )
     return np.minimum(low, high)
+
+
+def frictional_coefficients(regime, mu=None, cohesion=0.0, mu_scale=1.0):
+    """Slopes and intercepts of the branches of a frictional strength, for the batch scans.
+
+    Parameters
+    ----------
+    regime : {"thrust", "strike-slip", "normal"}
+    mu : float, optional
+        A constant friction coefficient; None for Byerlee's (1978) two branches.
+    cohesion : float, optional
+        Cohesion [Pa] with a constant ``mu``.
+    mu_scale : array_like, optional
+        Multiplier of the friction coefficient(s), shape () or (R,).
+
+    Returns
+    -------
+    slope, intercept : numpy.ndarray
+        Shape (..., 2): the strength is the lesser branch, min_k(slope_k sigma_v' +
+        intercept_k) (a constant mu gives two equal branches).
+    """
+    scale = np.asarray(mu_scale, float)
+    if mu is None:
+        branches = [
+            andersonian_coefficients(BYERLEE_LOW[0] * scale, BYERLEE_LOW[1], regime),
+            andersonian_coefficients(BYERLEE_HIGH[0] * scale, BYERLEE_HIGH[1], regime),
+        ]
+    else:
+        branches = [andersonian_coefficients(mu * scale, cohesion, regime)] * 2
+    slope = np.stack([np.broadcast_to(b[0], scale.shape) for b in branches], axis=-1)
+    intercept = np.stack([np.broadcast_to(b[1], scale.shape) for b in branches], axis=-1)
+    return slope, intercept
 
 
 def frictional_strength(

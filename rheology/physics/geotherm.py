@@ -209,22 +209,25 @@ def layered_steady(
     heat, k = arrays["heat_production"], arrays["conductivity"]
     _warn_if_above(q0, _SLIP_HEAT_FLOW, "surface_heat_flow: above 1 W/m^2; heat flow is in W/m^2")
     _warn_if_above(heat, _SLIP_HEAT_PRODUCTION, "heat_production: above 1e-3 W/m^3; it is in W/m^3")
-    produced = heat * h
-    q_tops = q0 - (np.cumsum(produced, axis=-1) - produced)  # flux entering each layer top
+    in_layer = heat * h
+    produced_above = np.cumsum(in_layer, axis=-1) - in_layer  # above each layer's top
+    q_tops = q0 - produced_above  # flux entering each layer top
     _check_flux_stays_positive(z, q0, h, tops, heat, q_tops)
 
+    # T = T0 + q0 F(z) - G(z): F and G depend only on the layering, so a batch of surface
+    # heat flows costs one multiply-add over the grid.
     n_layers = h.shape[-1]
-    temperature = t0 + 0.0 * z
-    heat_flow = q0 + 0.0 * z
+    F = G = produced = 0.0
     for i in range(n_layers):  # loop over layers only; each step is vectorised over depth
-        top, q_top = tops[..., i : i + 1], q_tops[..., i : i + 1]
+        top, above = tops[..., i : i + 1], produced_above[..., i : i + 1]
         h_i, k_i, heat_i = h[..., i : i + 1], k[..., i : i + 1], heat[..., i : i + 1]
         limit = np.inf if i == n_layers - 1 else h_i  # the last layer extends downwards
         dz = np.clip(z - top, 0.0, limit)  # depth travelled inside layer i
-        temperature = (
-            temperature + q_top * dz / k_i - heat_i * dz**2 / (2.0 * k_i)
-        )  # layer solution
-        heat_flow = heat_flow - heat_i * dz  # q = q_i - H_i dz
+        F = F + dz / k_i
+        G = G + (above * dz + 0.5 * heat_i * dz**2) / k_i  # layer solution, q_i = q0 - above
+        produced = produced + heat_i * dz
+    temperature = t0 + q0 * F - G
+    heat_flow = q0 - produced  # q = q_i - H_i dz
     return GeothermProfile(temperature, heat_flow)
 
 

@@ -33,10 +33,12 @@ from scipy import stats
 
 from rheology.answers.integrated import COMPETENT_FRACTION, COMPETENT_STRESS
 from rheology.answers.transitions import BRITTLE_TO_DUCTILE, DUCTILE_TO_BRITTLE
+from rheology.columns import ColumnAnswers, ScanResult, scan_answers
 from rheology.constants import SECONDS_PER_MYR
-from rheology.envelope import Variation, depth_grid, evaluate
+from rheology.envelope import Variation, column_inputs, depth_grid, evaluate
 from rheology.errors import RheologyError
 from rheology.model import Scenario
+from rheology.uncertainty.bands import column_percentiles
 
 #: Upper limit of sampled pore-pressure ratios (lithostatic fluid pressure, ratio 1, would
 #: leave faults with no strength at all).
@@ -50,9 +52,6 @@ BAND_SAMPLES = 5_000
 CHUNK_ELEMENTS = 2**18
 #: Rounds of redrawing for truncated distributions before giving up.
 _MAX_REDRAWS = 200
-#: Clamp of ln(brittle / ductile) where a strength is 0 or infinite, as in
-#: :mod:`rheology.answers.transitions`.
-_LOG_CLAMP = 700.0
 #: Geotherm parameters a spread can vary, with their display unit and its size in SI.
 _GEOTHERM_INPUTS = {
     "surface_heat_flow": ("surface heat flow", "mW/m^2", 1e-3),
@@ -609,252 +608,39 @@ def _law_inputs(scenario, size, rng):
 # ---------------------------------------------------------------- batch answers
 
 
-@dataclass(frozen=True)
-class Crossings:
-    """Transitions of many realisations as flat arrays (one entry per transition) [SI].
-
-    ``kind`` is 0 for brittle-to-ductile and 1 for ductile-to-brittle; ``occurrence``
-    counts transitions of the same kind in the same ``layer_below`` of one realisation,
-    from 0, shallow first. Entries are sorted by realisation, then depth.
-    """
-
-    row: np.ndarray
-    depth: np.ndarray
-    temperature: np.ndarray
-    stress: np.ndarray
-    kind: np.ndarray
-    layer_above: np.ndarray
-    layer_below: np.ndarray
-    at_boundary: np.ndarray
-    occurrence: np.ndarray
-
-
-@dataclass(frozen=True)
-class ColumnAnswers:
-    """Answers of R realisations at once [SI]; NaN where an answer does not exist.
-
-    Attributes
-    ----------
-    size : int
-    transitions : Crossings
-    first_down_depth, first_down_temperature : ndarray (R,)
-        Depth [m] and temperature [K] of the first (shallowest) brittle-to-ductile
-        transition; NaN when friction is weaker than creep through the whole column.
-    deepest_faulting : ndarray (R,)
-        Depth [m] of the last brittle-to-ductile transition; the column base when rock is
-        frictional at the base; NaN when no depth is frictional.
-    semi_brittle_base : ndarray (R,)
-        First Goetze-criterion depth [m] at or below the first brittle-to-ductile
-        transition (creep stress falling below the effective pressure).
-    integrated : ndarray (R,)
-        Depth-integrated strength [N/m].
-    elastic_thickness : ndarray (R,)
-        Effective elastic thickness [m]; ``coupled`` False where several competent
-        layers were combined as decoupled.
-    count : ndarray of int (R,)
-        Number of transitions.
-    """
-
-    size: int
-    transitions: Crossings
-    first_down_depth: np.ndarray
-    first_down_temperature: np.ndarray
-    deepest_faulting: np.ndarray
-    semi_brittle_base: np.ndarray
-    integrated: np.ndarray
-    elastic_thickness: np.ndarray
-    coupled: np.ndarray
-    count: np.ndarray
-
-    @staticmethod
-    def concatenate(parts: list[ColumnAnswers]) -> ColumnAnswers:
-        """Join the answers of consecutive chunks (realisation indices are offset)."""
-        offsets = np.cumsum([0] + [p.size for p in parts])[:-1]
-        crossing_fields = {}
-        for name in Crossings.__dataclass_fields__:
-            arrays = [getattr(p.transitions, name) for p in parts]
-            if name == "row":
-                arrays = [a + o for a, o in zip(arrays, offsets)]
-            crossing_fields[name] = np.concatenate(arrays)
-        values = {
-            name: np.concatenate([getattr(p, name) for p in parts])
-            for name in ColumnAnswers.__dataclass_fields__
-            if name not in ("size", "transitions")
-        }
-        return ColumnAnswers(
-            size=int(sum(p.size for p in parts)), transitions=Crossings(**crossing_fields), **values
-        )
-
-
-def _log_ratio(numerator, denominator):
-    """ln(numerator / denominator), clamped like :mod:`rheology.answers.transitions`."""
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        value = np.log(numerator) - np.log(denominator)
-    return np.nan_to_num(value, nan=0.0, posinf=_LOG_CLAMP, neginf=-_LOG_CLAMP)
-
-
-def _first_per_row(rows, values, size, mask=None):
-    """Value of the first entry of each row (entries sorted by row); NaN for no entry."""
-    out = np.full(size, np.nan)
-    if mask is not None:
-        rows, values = rows[mask], values[mask]
-    if rows.size:
-        unique, first = np.unique(rows, return_index=True)
-        out[unique] = values[first]
-    return out
-
-
-def _interpolated_crossings(numerator, denominator, depth, layer, rows, j):
-    """Depth where ln(numerator / denominator) changes sign between nodes j and j+1.
-
-    The log-ratio is evaluated at those nodes only and interpolated linearly.
-    """
-    g0 = _log_ratio(numerator[rows, j], denominator[rows, j])
-    g1 = _log_ratio(numerator[rows, j + 1], denominator[rows, j + 1])
-    z0, z1 = depth[rows, j], depth[rows, j + 1]
-    same = layer[rows, j] == layer[rows, j + 1]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        fraction = np.where(same, g0 / (g0 - g1), 0.0)  # linear interpolation in ln ratio
-    fraction = np.clip(np.nan_to_num(fraction), 0.0, 1.0)
-    return z0 + fraction * (z1 - z0), fraction, same
-
-
-def column_answers(fields: Mapping[str, np.ndarray], size: int | None = None) -> ColumnAnswers:
+def column_answers(
+    scenario: Scenario, depth, layer=None, variation: Variation | None = None, band_rows: int = 0
+) -> ScanResult:
     """Transitions, semi-brittle base, integrated strength and Te of every realisation.
 
     Parameters
     ----------
-    fields : mapping
-        The output of :func:`rheology.envelope.evaluate` for R realisations (fields of
-        shape (R, nz); depth and layer (nz,) or (R, nz)).
-    size : int, optional
-        R, when no field carries the realisation axis (a variation that changes nothing).
+    scenario : Scenario
+    depth : array_like
+        Depth nodes [m], (nz,) or (R, nz).
+    layer : array_like of int, optional
+        Layer of each node (default: from the thicknesses).
+    variation : Variation, optional
+        Per-realisation inputs; R = ``variation.size`` (1 without one).
+    band_rows : int
+        Keep the strength profiles of the first ``band_rows`` realisations.
 
     Returns
     -------
-    ColumnAnswers
+    rheology.columns.ScanResult
+        ``answers`` (:class:`ColumnAnswers`), ``frictional`` (number of realisations in
+        which friction is the weaker mechanism at each node) and ``band`` (the kept
+        strength profiles [Pa]).
 
     Notes
     -----
-    A transition lies between nodes j and j+1 where the weaker mechanism switches
-    (brittle wins where brittle <= ductile, as in :func:`rheology.find_transitions`).
-    Inside a layer its depth is found by linear interpolation of
-    g = ln(brittle) - ln(ductile) between the two nodes, with error about
-    h^2 max|g''| / (8 |g'|) for node spacing h; a switch between the two copies of a
-    layer boundary is placed on the boundary. Temperature and stress are interpolated
-    linearly with the same weight. The Goetze-criterion depths (creep stress equal to
-    the effective pressure, Kohlstedt, Evans & Mackwell 1995) are found the same way
-    from ln(effective pressure) - ln(ductile). The integrated strength is the trapezoid
-    rule along depth; Te uses the competence thresholds of
+    The fields come from the same physics and the same compiled node function as
+    :func:`rheology.envelope.evaluate`; see :func:`rheology.columns.scan_answers` for how
+    transitions are interpolated between nodes. Te uses the competence thresholds of
     :func:`rheology.elastic_thickness` (Burov & Diament 1995).
-
-    References
-    ----------
-    Kohlstedt, D. L., Evans, B. & Mackwell, S. J. (1995). Strength of the lithosphere:
-    constraints imposed by laboratory experiments. J. Geophys. Res. 100(B9), 17587-17602.
-    Burov, E. B. & Diament, M. (1995). The effective elastic thickness (Te) of continental
-    lithosphere: what does it really mean? J. Geophys. Res. 100(B3), 3905-3927.
     """
-    brittle = np.asarray(fields["brittle"])
-    if size is None:
-        size = brittle.shape[0] if brittle.ndim == 2 else 1
-    nz = np.shape(fields["depth"])[-1]
-    shape = (size, nz)
-
-    def full(name):
-        return np.broadcast_to(np.asarray(fields[name]), shape)
-
-    depth, layer = full("depth"), full("layer")
-    brittle, ductile, strength = full("brittle"), full("ductile"), full("strength")
-    temperature, lithostatic = full("temperature"), full("lithostatic")
-    effective = lithostatic - full("pore_pressure")
-
-    # --- transitions (brittle/ductile switches)
-    wins = brittle <= ductile
-    rows, j = np.nonzero(wins[:, 1:] != wins[:, :-1])
-    z, fraction, same = _interpolated_crossings(brittle, ductile, depth, layer, rows, j)
-    kind = np.where(wins[rows, j], 0, 1).astype(np.int8)
-    t0, t1 = temperature[rows, j], temperature[rows, j + 1]
-    t_cross = t0 + fraction * (t1 - t0)
-    b0, b1 = brittle[rows, j], brittle[rows, j + 1]
-    at_boundary_stress = np.where(kind == 0, strength[rows, j + 1], strength[rows, j])
-    s_cross = np.where(same, b0 + fraction * (b1 - b0), at_boundary_stress)
-    above, below = layer[rows, j], layer[rows, j + 1]
-    occurrence = _occurrence(rows, kind, below, int(np.max(layer)) + 1)
-    crossings = Crossings(rows, z, t_cross, s_cross, kind, above, below, ~same, occurrence)
-
-    down = kind == 0
-    first_depth = _first_per_row(rows, z, size, down)
-    first_temperature = _first_per_row(rows, t_cross, size, down)
-    count = np.bincount(rows, minlength=size)
-    deepest = np.where(wins[:, -1], depth[:, -1], np.nan)  # frictional at the base
-    if rows.size:
-        last = np.append(rows[1:] != rows[:-1], True)
-        last_down = last & down
-        deepest[rows[last_down]] = z[last_down]
-
-    # --- Goetze criterion below the brittle-to-ductile transitions
-    plastic = ductile <= effective
-    weak = ~wins
-    g_rows, g_j = np.nonzero(~plastic[:, :-1] & plastic[:, 1:] & weak[:, :-1] & weak[:, 1:])
-    g_z, _, g_same = _interpolated_crossings(effective, ductile, depth, layer, g_rows, g_j)
-    g_z = np.where(g_same, g_z, depth[g_rows, g_j + 1])
-    below_first = g_z >= first_depth[g_rows] - 1.0  # as in the plain-language summary
-    semi_brittle_base = _first_per_row(g_rows, g_z, size, below_first)
-
-    integrated = np.trapezoid(strength, depth, axis=-1)
-    te, coupled = _elastic_thickness(strength, lithostatic, depth)
-    return ColumnAnswers(
-        size,
-        crossings,
-        first_depth,
-        first_temperature,
-        deepest,
-        semi_brittle_base,
-        integrated,
-        te,
-        coupled,
-        count,
-    )
-
-
-def _occurrence(rows, kind, layer_below, n_layers):
-    """Rank of each transition among those of the same kind and layer in its realisation."""
-    key = (rows.astype(np.int64) * 2 + kind) * n_layers + layer_below
-    order = np.argsort(key, kind="stable")  # entries are already by row, then depth
-    ordered = key[order]
-    position = np.arange(ordered.size)
-    starts = np.r_[True, ordered[1:] != ordered[:-1]] if ordered.size else np.zeros(0, bool)
-    first = np.maximum.accumulate(np.where(starts, position, 0)) if ordered.size else position
-    occurrence = np.empty(ordered.size, np.int64)
-    occurrence[order] = position - first
-    return occurrence
-
-
-def _elastic_thickness(strength, lithostatic, depth):
-    """Te per realisation (vectorised :func:`rheology.elastic_thickness`)."""
-    size, nz = strength.shape
-    strong = strength > np.maximum(COMPETENT_STRESS, COMPETENT_FRACTION * lithostatic)
-    padded = np.zeros((size, nz + 2), np.int8)
-    padded[:, 1:-1] = strong
-    step = np.diff(padded, axis=1)
-    s_rows, start = np.nonzero(step == 1)  # first strong node of a competent layer
-    e_rows, end = np.nonzero(step == -1)  # one past its last strong node
-    top = np.where(
-        start == 0, 0.0, 0.5 * (depth[s_rows, np.maximum(start - 1, 0)] + depth[s_rows, start])
-    )
-    bottom = np.where(
-        end == nz,
-        depth[e_rows, nz - 1],
-        0.5 * (depth[e_rows, end - 1] + depth[e_rows, np.minimum(end, nz - 1)]),
-    )
-    h = bottom - top
-    keep = h > 0
-    layers = np.bincount(s_rows[keep], minlength=size)
-    total = np.bincount(s_rows[keep], weights=h[keep], minlength=size)
-    cubes = np.bincount(s_rows[keep], weights=h[keep] ** 3, minlength=size)
-    te = np.where(layers == 1, total, np.where(layers > 1, np.cbrt(cubes), 0.0))
-    return te, layers <= 1  # decoupled layers: Te = (sum h^3)^(1/3), Burov & Diament 1995
+    inputs, _ = column_inputs(scenario, depth, layer, variation=variation)
+    return scan_answers(inputs, COMPETENT_STRESS, COMPETENT_FRACTION, band_rows)
 
 
 def _check_workers(workers) -> int:
@@ -1122,11 +908,6 @@ def _matched(answers: ColumnAnswers, layer_names) -> tuple[MatchedTransition, ..
     return tuple(sorted(groups, key=lambda t: (t.depth.p50, t.kind)))
 
 
-def _evaluate_answers(scenario, depth, layer, variation):
-    fields = evaluate(scenario, depth, layer, variation=variation)
-    return fields, column_answers(fields, variation.size)
-
-
 def _sensitivity(scenario, draws, answers, depth, layer) -> tuple[Sensitivity, ...]:
     """Spearman rho of each varied input with the first brittle-to-ductile depth, and swings."""
     y = answers.first_down_depth
@@ -1145,7 +926,7 @@ def _sensitivity(scenario, draws, answers, depth, layer) -> tuple[Sensitivity, .
         columns[item.key][2 * k] = low
         columns[item.key][2 * k + 1] = high
     variation = variation_from_columns(scenario, columns, size)
-    _, swings = _evaluate_answers(scenario, depth, layer, variation)
+    swings = column_answers(scenario, depth, layer, variation).answers
     out = []
     constant_y = finite.sum() < 3 or np.ptp(y[finite]) == 0
     for k, item in enumerate(varied):
@@ -1243,27 +1024,18 @@ def run_monte_carlo(
     workers = _check_workers(workers)
 
     def work(index):
-        fields, part = _evaluate_answers(scenario, depth, layer, draws.variation(index))
-        shape = (part.size, depth.size)
-        brittle = np.broadcast_to(fields["brittle"], shape)
-        frictional = np.count_nonzero(brittle <= np.broadcast_to(fields["ductile"], shape), axis=0)
-        kept = None
-        if index.start < band_samples:
-            strength = np.broadcast_to(fields["strength"], shape)
-            kept = np.array(strength[: band_samples - index.start])
-        return part, frictional, kept
+        kept = max(0, min(band_samples, index.stop) - index.start)
+        return column_answers(scenario, depth, layer, draws.variation(index), kept)
 
     chunks = [slice(start, min(start + chunk, samples)) for start in range(0, samples, chunk)]
     with chunk_map(workers) as mapper:
         outcomes = list(mapper(work, chunks))
-    parts = [outcome[0] for outcome in outcomes]
-    frictional = np.sum([outcome[1] for outcome in outcomes], axis=0)
-    kept = [outcome[2] for outcome in outcomes if outcome[2] is not None]
-    answers = ColumnAnswers.concatenate(parts)
-    kept = np.concatenate(kept, axis=0)
-    bands = dict(zip(PERCENTILES, np.percentile(kept, PERCENTILES, axis=0)))
+    answers = ColumnAnswers.concatenate([outcome.answers for outcome in outcomes])
+    frictional = np.sum([outcome.frictional for outcome in outcomes], axis=0)
+    kept = np.concatenate([outcome.band for outcome in outcomes if outcome.band.size], axis=0)
+    bands = dict(zip(PERCENTILES, column_percentiles(kept, PERCENTILES, workers)))
     centre = evaluate(scenario, depth, layer)
-    nominal = column_answers(centre, 1)
+    nominal = column_answers(scenario, depth, layer).answers
     names = [ly.name for ly in scenario.layers]
     ranking = _sensitivity(scenario, draws, answers, depth, layer) if sensitivity else ()
     return MonteCarloResult(

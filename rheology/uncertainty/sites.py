@@ -37,7 +37,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from rheology.constants import ZERO_CELSIUS
-from rheology.envelope import Variation, depth_grid, evaluate
+from rheology.envelope import Variation, depth_grid
 from rheology.errors import RheologyError
 from rheology.model import GEOTHERM_PARAMETERS, Scenario
 from rheology.physics.friction import REGIMES
@@ -628,10 +628,10 @@ def run_sites(
 
     Notes
     -----
-    Each chunk is one call of :func:`rheology.envelope.evaluate` and of
-    :func:`rheology.uncertainty.montecarlo.column_answers`, so a site's answers equal a
-    single-site run of the same scenario except for the transition depths, which are
-    interpolated between nodes (see :func:`column_answers`). A chunk that the physics
+    Each chunk is one call of :func:`rheology.uncertainty.montecarlo.column_answers`
+    (the compiled column scan), so a site's answers equal a single-site run of the same
+    scenario except for the transition depths, which are interpolated between nodes
+    (see :func:`rheology.columns.scan_answers`). A chunk that the physics
     rejects is split in halves until the offending sites are isolated; they are
     reported, the others kept.
     """
@@ -697,7 +697,7 @@ def _solve(table, scenario, rows, results, grid):
             depth, layer = site_grid(scenario, variation.thickness)
         else:
             depth, layer = grid
-        answers = column_answers(evaluate(scenario, depth, layer, variation=variation), rows.size)
+        answers = column_answers(scenario, depth, layer, variation).answers
     except RheologyError as exc:
         if rows.size == 1:
             r = int(rows[0])
