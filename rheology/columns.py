@@ -23,7 +23,7 @@ sigma1 - sigma3 [Pa]; strain rates are axial (triaxial convention).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -43,6 +43,7 @@ from rheology.physics.creep import (
     solve_log_stress,
     term_table,
 )
+from rheology.physics.geotherm import LinearGeotherm
 
 #: Mechanism names; :attr:`rheology.envelope.Envelope.mechanism` holds indices into it.
 MECHANISMS = (
@@ -120,10 +121,16 @@ class ColumnInputs:
     depth : ndarray (., nz)
         Depth [m], increasing; a layer boundary appears twice (upper layer first).
     layer : ndarray of int64 (., nz)
-    temperature : ndarray (., nz)
-        [K].
-    lithostatic, pore_pressure : ndarray (., nz)
-        Vertical stress and pore-fluid pressure [Pa].
+    temperature, temperature_value, temperature_shape : ndarray (., nz), (.,), (., nz)
+        Temperature [K] = temperature + temperature_value * temperature_shape (a
+        geotherm linear in one surface value, :class:`rheology.physics.geotherm.
+        LinearGeotherm`, or the temperature itself with value 0); None until given
+        (see :meth:`rows`).
+    lithostatic : ndarray (., nz)
+        Vertical stress [Pa].
+    pore_pressure, pore_ratio : ndarray (., nz), ndarray (.,)
+        Pore-fluid pressure P_f = pore_pressure + pore_ratio sigma_v [Pa] (a pressure
+        model, or a ratio to the overburden, Hubbert & Rubey 1959).
     log_rate : ndarray (.,)
         ln(axial strain rate [1/s]).
     friction : ndarray (., 4)
@@ -135,21 +142,62 @@ class ColumnInputs:
     size: int
     depth: np.ndarray
     layer: np.ndarray
-    temperature: np.ndarray
+    temperature: np.ndarray | None
+    temperature_value: np.ndarray | None
+    temperature_shape: np.ndarray | None
     lithostatic: np.ndarray
     pore_pressure: np.ndarray
+    pore_ratio: np.ndarray
     log_rate: np.ndarray
     friction: np.ndarray
     laws: LawTable
 
+    def rows(self, start: int, stop: int, geotherm=None) -> ColumnInputs:
+        """Columns ``start .. stop - 1`` (arrays with one row per column are sliced).
+
+        ``geotherm`` (a :class:`rheology.physics.geotherm.LinearGeotherm` of those
+        columns) replaces the temperature fields.
+        """
+        size = stop - start
+
+        def cut(array):
+            if array is None or not (self.size > 1 and len(array) == self.size):
+                return array
+            return array[start:stop]
+
+        names = ("depth", "layer", "lithostatic", "pore_pressure", "pore_ratio", "log_rate")
+        names += ("friction", "temperature", "temperature_value", "temperature_shape")
+        fields = {name: cut(getattr(self, name)) for name in names}
+        if geotherm is not None:
+            fields.update(temperature_fields(geotherm, size))
+        laws = replace(self.laws, values=cut(self.laws.values))
+        return ColumnInputs(size=size, laws=laws, **fields)
+
+    def distinct_rows(self) -> int:
+        """1 when every column is the same, else R."""
+        return max(len(a) for a in (*self.node_arrays()[:10], self.laws.values))
+
+    def temperature_at(self, row: int) -> np.ndarray:
+        """Temperature [K] of column ``row`` at every node, as the scans compute it."""
+        return self.temperature_field()[min(row, len(self.temperature_field()) - 1)]
+
+    def temperature_field(self) -> np.ndarray:
+        """Temperature [K] at every node, (1 or R, nz), as the scans compute it."""
+        return self.temperature + self.temperature_value[:, None] * self.temperature_shape
+
     def node_arrays(self):
         """The arrays the compiled scans take, in their order."""
+        if self.temperature is None:
+            raise RheologyError("temperature: not given; expected the temperature at every node")
         return (
             self.depth,
             self.layer,
             self.temperature,
+            self.temperature_value,
+            self.temperature_shape,
             self.lithostatic,
             self.pore_pressure,
+            self.pore_ratio,
             self.log_rate,
             self.friction,
             self.laws.kind,
@@ -158,6 +206,31 @@ class ColumnInputs:
             self.laws.count,
             self.laws.values,
         )
+
+
+def temperature_fields(geotherm, size: int) -> dict[str, np.ndarray]:
+    """The temperature fields of :class:`ColumnInputs` from a geotherm of ``size`` columns.
+
+    ``geotherm`` is a :class:`rheology.physics.geotherm.LinearGeotherm` or, for any
+    other geotherm, the temperature array itself.
+    """
+    if not isinstance(geotherm, LinearGeotherm):
+        temperature = node_rows(geotherm, size)
+        return {
+            "temperature": temperature,
+            "temperature_value": np.zeros(1),
+            "temperature_shape": np.zeros((1, temperature.shape[1])),
+        }
+    nz = np.shape(geotherm.shape)[-1]
+    return {
+        "temperature": node_rows(np.broadcast_to(geotherm.base, _rows(geotherm.base, nz)), size),
+        "temperature_value": np.asarray(geotherm.value, float).reshape(-1),
+        "temperature_shape": node_rows(geotherm.shape, size),
+    }
+
+
+def _rows(array, nz):
+    return (np.shape(array)[0] if np.ndim(array) == 2 else 1, nz)
 
 
 def node_rows(values, size: int, dtype=float) -> np.ndarray:
@@ -206,8 +279,11 @@ def _scan(
     depth,
     layer,
     temperature,
+    temperature_value,
+    temperature_shape,
     lithostatic,
     pore,
+    pore_ratio,
     log_rate,
     friction,
     kind,
@@ -232,7 +308,7 @@ def _scan(
 
     Fields are written when ``brittle_out`` has R rows, answers when ``per_column`` has;
     returns the most transitions (or Goetze crossings) found in one column, or -1 - the
-    flat index of the first node whose temperature is not above 0 K.
+    index (row * nz + node) of the first node whose temperature is not above 0 K.
     """
     n_terms, nz = kind.size, depth.shape[1]
     want_fields, want_answers = brittle_out.shape[0] == size, per_column.shape[0] == size
@@ -266,8 +342,10 @@ def _scan(
                 1.0,
             )
         rd, rl, rt = _row(depth, r), _row(layer, r), _row(temperature, r)
+        rv, rh = _row(temperature_value, r), _row(temperature_shape, r)
+        value = temperature_value[rv]
         rs, rp, rf = _row(lithostatic, r), _row(pore, r), _row(friction, r)
-        target = log_rate[_row(log_rate, r)]
+        target, ratio = log_rate[_row(log_rate, r)], pore_ratio[_row(pore_ratio, r)]
         f0, f1, f2, f3 = friction[rf, 0], friction[rf, 1], friction[rf, 2], friction[rf, 3]
         first_depth = first_temperature = last_down = np.nan
         n_cross = n_goetze = n_layers = 0
@@ -276,10 +354,11 @@ def _scan(
         z0 = t0 = b0 = d0 = e0 = s0 = 0.0
         l0 = 0
         for j in range(nz):
-            T, sv = temperature[rt, j], lithostatic[rs, j]
+            T = temperature[rt, j] + value * temperature_shape[rh, j]  # base + value shape
+            sv = lithostatic[rs, j]
             if not T > 0:
-                return -1 - (rt * nz + j)
-            effective = sv - pore[rp, j]
+                return -1 - (r * nz + j)
+            effective = sv - (pore[rp, j] + ratio * sv)  # sigma_v - P_f
             brittle = min(f0 * effective + f1, f2 * effective + f3)  # the lesser branch
             L = layer[rl, j]
             start, n_here = first[L], count[L]
@@ -409,7 +488,8 @@ def _scan(
 def _run_scan(inputs: ColumnInputs, *outputs, competent=(0.0, 0.0)) -> int:
     most = _scan(inputs.size, *inputs.node_arrays(), *competent, *outputs)
     if most < 0:
-        value = inputs.temperature.ravel()[-1 - most]
+        row, node = divmod(-1 - most, inputs.depth.shape[1])
+        value = inputs.temperature_at(row)[node]
         raise RheologyError(f"temperature: {value} K is not above absolute zero; expected T > 0 K")
     return most
 

@@ -14,6 +14,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from rheology import columns
 from rheology.columns import (
     CREEP_CODES,
     FRICTIONAL,
@@ -159,8 +160,14 @@ def _column(values):
     return None if values is None else np.asarray(values, float)[:, None]
 
 
-def geotherm_profile(scenario: Scenario, depth, variation: Variation | None = None):
-    """Temperature [K] and heat flow [W/m^2] of the scenario's geotherm at ``depth``."""
+def geotherm_profile(
+    scenario: Scenario, depth, variation: Variation | None = None, split: bool = False
+):
+    """Temperature [K] and heat flow [W/m^2] of the scenario's geotherm at ``depth``.
+
+    With ``split``, linear and layered steady geotherms (without an adiabat) come as
+    :class:`rheology.physics.geotherm.LinearGeotherm` parts.
+    """
     g = scenario.geotherm
     layers = scenario.layers
     values = {name: getattr(g, name) for name in g.__dataclass_fields__}
@@ -172,7 +179,9 @@ def geotherm_profile(scenario: Scenario, depth, variation: Variation | None = No
     v = values
     if g.kind == "linear":
         conductivity = layers[0].conductivity if v["conductivity"] is None else v["conductivity"]
-        profile = geotherm.linear(depth, v["surface_temperature"], v["gradient"], conductivity)
+        profile = geotherm.linear(
+            depth, v["surface_temperature"], v["gradient"], conductivity, split=split
+        )
     elif g.kind == "layered-steady":
         profile = geotherm.layered_steady(
             depth,
@@ -181,6 +190,7 @@ def geotherm_profile(scenario: Scenario, depth, variation: Variation | None = No
             thickness,
             [ly.heat_production for ly in layers],
             [ly.conductivity for ly in layers],
+            split=split,
         )
     elif g.kind == "exponential-heat":
         profile = geotherm.exponential_heat(
@@ -211,6 +221,8 @@ def geotherm_profile(scenario: Scenario, depth, variation: Variation | None = No
             3.3 if v["conductivity"] is None else v["conductivity"],
         )
     if v["potential_temperature"] is not None:
+        if isinstance(profile, geotherm.LinearGeotherm):
+            profile = geotherm.GeothermProfile(profile.temperature, profile.heat_flow)
         profile = geotherm.cap_at_adiabat(
             profile, depth, v["potential_temperature"], v["adiabatic_gradient"]
         )
@@ -299,6 +311,17 @@ def _friction_rows(scenario: Scenario, variation: Variation | None) -> np.ndarra
     return np.ascontiguousarray(packed.reshape(-1, 4))
 
 
+def _pore_parts(scenario: Scenario, depth, lithostatic, variation: Variation | None):
+    """Pore pressure as (pressure [Pa], ratio): P_f = pressure + ratio sigma_v."""
+    ratio = None if variation is None else variation.pore_pressure_ratio
+    if ratio is None and scenario.pore_pressure.kind == "ratio":
+        ratio = scenario.pore_pressure.ratio
+    if ratio is not None:  # P_f = lambda sigma_v (Hubbert & Rubey 1959)
+        ratio = pressure.check_ratio(np.asarray(ratio, float).reshape(-1), "pore_pressure_ratio")
+        return np.zeros((1, np.shape(depth)[-1])), ratio
+    return pore_pressure(scenario, depth, lithostatic, variation), np.zeros(1)
+
+
 def column_inputs(
     scenario: Scenario,
     depth,
@@ -306,7 +329,8 @@ def column_inputs(
     *,
     variation: Variation | None = None,
     laws: LawTable | None = None,
-) -> tuple[ColumnInputs, dict[str, np.ndarray]]:
+    temperature: bool = True,
+) -> tuple[ColumnInputs, np.ndarray | None]:
     """Inputs of the column scans, from the numpy physics (geotherm, pressures, friction).
 
     Parameters
@@ -320,48 +344,58 @@ def column_inputs(
         Per-realisation inputs (R = ``variation.size`` columns).
     laws : LawTable, optional
         Packed creep laws (:func:`law_table`) to reuse.
+    temperature : bool
+        Compute the geotherm now; with False the inputs carry no temperature, to be
+        given chunk by chunk (:meth:`rheology.columns.ColumnInputs.rows`,
+        :func:`geotherm_profile`).
 
     Returns
     -------
     inputs : rheology.columns.ColumnInputs
-    fields : dict
-        depth, layer, temperature, heat_flow, lithostatic, pore_pressure as computed
-        (shapes (nz,) or (R, nz)).
+    heat_flow : ndarray or None
+        Conductive heat flow [W/m^2] of the geotherm, (nz,) or (R, nz).
     """
     depth = np.asarray(depth, float)
     layer = assign_layers(scenario, depth, variation) if layer is None else np.asarray(layer)
     thickness = [ly.thickness for ly in scenario.layers]
     if variation is not None and variation.thickness is not None:
         thickness = np.asarray(variation.thickness, float)
-    temperature, heat_flow = geotherm_profile(scenario, depth, variation)
+    heat_flow, temperature_fields = (
+        None,
+        {
+            "temperature": None,
+            "temperature_value": None,
+            "temperature_shape": None,
+        },
+    )
+    size = 1 if variation is None else int(variation.size)
+    if temperature:
+        profile = geotherm_profile(scenario, depth, variation, split=True)
+        heat_flow = profile.heat_flow
+        split = isinstance(profile, geotherm.LinearGeotherm)
+        temperature_fields = columns.temperature_fields(
+            profile if split else profile.temperature, size
+        )
     lithostatic = pressure.lithostatic_pressure(
         depth, thickness, [ly.density for ly in scenario.layers]
     )
-    fluid = pore_pressure(scenario, depth, lithostatic, variation)
+    fluid, ratio = _pore_parts(scenario, depth, lithostatic, variation)
     strain_rate = scenario.strain_rate
     if variation is not None and variation.strain_rate is not None:
         strain_rate = np.asarray(variation.strain_rate, float)
-    size = 1 if variation is None else int(variation.size)
     inputs = ColumnInputs(
         size=size,
         depth=node_rows(depth, size),
         layer=node_rows(np.broadcast_to(layer, np.shape(depth)), size, np.int64),
-        temperature=node_rows(temperature, size),
+        **temperature_fields,
         lithostatic=node_rows(lithostatic, size),
         pore_pressure=node_rows(fluid, size),
+        pore_ratio=ratio,
         log_rate=np.log(np.asarray(strain_rate, float)).reshape(-1),
         friction=_friction_rows(scenario, variation),
         laws=law_table(scenario, variation) if laws is None else laws,
     )
-    fields = dict(
-        depth=depth,
-        layer=layer,
-        temperature=temperature,
-        heat_flow=heat_flow,
-        lithostatic=lithostatic,
-        pore_pressure=fluid,
-    )
-    return inputs, fields
+    return inputs, heat_flow
 
 
 def evaluate(
@@ -387,20 +421,29 @@ def evaluate(
         depth, layer, temperature, heat_flow, lithostatic, pore_pressure, brittle, ductile,
         strength, mechanism (codes into :data:`MECHANISMS`).
     """
-    inputs, fields = column_inputs(scenario, depth, layer, variation=variation, laws=terms)
-    rows = max(
-        len(a) for a in (*inputs.node_arrays()[:7], inputs.laws.values)
-    )  # columns that differ
-    scanned = scan_fields(replace(inputs, size=rows))
-    if rows == 1 and np.ndim(fields["depth"]) < 2:
-        scanned = {name: value[0] for name, value in scanned.items()}
-    brittle, ductile = scanned["brittle"], scanned["ductile"]
+    depth = np.asarray(depth, float)
+    if layer is None:
+        layer = assign_layers(scenario, depth, variation)
+    inputs, heat_flow = column_inputs(scenario, depth, layer, variation=variation, laws=terms)
+    rows = inputs.distinct_rows()
+    scanned = scan_fields(replace(inputs, size=rows) if rows == 1 else inputs)
+    fluid = inputs.pore_pressure + inputs.pore_ratio[:, None] * inputs.lithostatic
+    fields = dict(
+        temperature=inputs.temperature_field(),
+        lithostatic=inputs.lithostatic,
+        pore_pressure=fluid,
+        **scanned,
+    )
+    if rows == 1 and depth.ndim < 2:  # one column: (nz,) fields
+        fields = {name: value[0] for name, value in fields.items()}
+        heat_flow = np.broadcast_to(heat_flow, depth.shape)
+    brittle, ductile = fields["brittle"], fields["ductile"]
     return dict(
         fields,
-        brittle=brittle,
-        ductile=ductile,
+        depth=depth,
+        layer=np.asarray(layer),
+        heat_flow=heat_flow,
         strength=np.minimum(brittle, ductile),
-        mechanism=scanned["mechanism"],
     )
 
 

@@ -386,6 +386,26 @@ def test_realisation_axis_equals_loop_over_scalar_calls():
         np.testing.assert_allclose(batched.heat_flow, expected_q, rtol=1e-14, atol=1e-16)
 
 
+def test_split_parts_equal_the_profile_and_dt_dq0_is_the_thermal_resistance():
+    """With split=True a geotherm comes as T = base + value * shape. The parts must give
+    the profile's numbers bit for bit (the batch engine relies on it), and for the layered
+    solution T = T_i + q_i dz/k_i - H_i dz^2/(2 k_i) the shape dT/dq0 is the thermal
+    resistance sum dz_i / k_i above each depth (Turcotte & Schubert 2002, ch. 4; the
+    derivative is our own)."""
+    z = np.linspace(0.0, 60e3, 61)
+    q0 = np.array([[0.05], [0.065]])
+    args = (z, 283.0, q0, [15e3, 25e3, 20e3], [1e-6, 0.3e-6, 0.02e-6], [2.5, 3.0, 3.3])
+    whole, parts = layered_steady(*args), layered_steady(*args, split=True)
+    assert np.array_equal(parts.temperature, whole.temperature)
+    assert np.array_equal(parts.heat_flow, whole.heat_flow)
+    resistance = np.minimum(z, 15e3) / 2.5 + np.clip(z - 15e3, 0, 25e3) / 3.0
+    resistance += np.clip(z - 40e3, 0, None) / 3.3
+    np.testing.assert_allclose(parts.shape, resistance, rtol=1e-14)
+    line, line_parts = linear(z, 283.0, q0 / 2.5, 2.5), linear(z, 283.0, q0 / 2.5, 2.5, True)
+    assert np.array_equal(line_parts.temperature, line.temperature)
+    assert np.array_equal(np.broadcast_to(line_parts.heat_flow, (2, z.size)), line.heat_flow)
+
+
 def test_realisation_depth_grids_of_shape_r_nz():
     """Depth of shape (R, nz) with (R, 1) parameters: each row as its own scalar call."""
     z = np.array([np.linspace(0, 50e3, 6), np.linspace(0, 100e3, 6)])

@@ -603,6 +603,16 @@ def test_cli_prints_percentiles_sensitivity_and_the_caution(tmp_path):
     assert plot.read_bytes()[:4] == b"\x89PNG"
 
 
+def test_cli_with_only_the_default_law_spread_runs():
+    """No spread option: the flow laws vary from their published one-sigma (the default),
+    and the run succeeds with the laws as the only inputs."""
+    code, out, err = _cli(
+        ["uncertainty", str(rheology.bundled_example("demo")), "--samples", "30", "--seed", "2"]
+    )
+    assert code == 0, err
+    assert "ol-dry-disl-hk03" in out and rheology.CAUTION in out
+
+
 def test_cli_json_is_one_object_with_the_caution():
     code, out, _ = _cli(
         [

@@ -26,6 +26,7 @@ from rheology.physics.checks import checked, depth_array, layers_checked, temper
 __all__ = [
     "PLATE_DEFAULTS",
     "GeothermProfile",
+    "LinearGeotherm",
     "adiabat",
     "cap_at_adiabat",
     "exponential_heat",
@@ -49,6 +50,42 @@ class GeothermProfile(NamedTuple):
 
     temperature: np.ndarray
     heat_flow: np.ndarray
+
+
+class LinearGeotherm(NamedTuple):
+    """A geotherm linear in one surface value: T = base + value * shape.
+
+    Returned by :func:`linear` (value = gradient) and :func:`layered_steady` (value =
+    surface heat flow) with ``split=True``. For a batch of values, shape (R, 1), the
+    temperature costs one multiply-add per node, which the column scans do themselves.
+
+    Attributes
+    ----------
+    base : numpy.ndarray
+        Temperature [K] with the value at zero.
+    value : numpy.ndarray
+        The surface value (gradient [K m^-1] or heat flow [W m^-2]).
+    shape : numpy.ndarray
+        dT / d(value) at each depth.
+    flux_base, flux_shape : numpy.ndarray
+        Conductive heat flux [W m^-2] = flux_base + value * flux_shape.
+    """
+
+    base: np.ndarray
+    value: np.ndarray
+    shape: np.ndarray
+    flux_base: np.ndarray
+    flux_shape: np.ndarray
+
+    @property
+    def temperature(self) -> np.ndarray:
+        """Temperature [K]."""
+        return np.asarray(self.base + self.value * self.shape)
+
+    @property
+    def heat_flow(self) -> np.ndarray:
+        """Conductive heat flux k dT/dz [W m^-2]."""
+        return np.asarray(self.flux_base + self.value * self.flux_shape)
 
 
 #: Published plate-model parameters, in SI (plate thickness [m], basal temperature [K]).
@@ -111,7 +148,9 @@ def _warn_if_above(array: np.ndarray, limit: float, message: str, stacklevel: in
 # ------------------------------------------------------------------------- geotherms
 
 
-def linear(depth, surface_temperature, gradient, conductivity=2.5) -> GeothermProfile:
+def linear(
+    depth, surface_temperature, gradient, conductivity=2.5, split=False
+) -> GeothermProfile | LinearGeotherm:
     """Linear geotherm with a constant temperature gradient.
 
     Parameters
@@ -124,6 +163,8 @@ def linear(depth, surface_temperature, gradient, conductivity=2.5) -> GeothermPr
         Temperature gradient dT/dz [K m^-1] (25 K/km is 0.025); zero or more.
     conductivity : float or array_like, optional
         Thermal conductivity [W m^-1 K^-1], used only for the heat flow.
+    split : bool, optional
+        Return the parts T0 + G z (:class:`LinearGeotherm`, value = G) instead.
 
     Returns
     -------
@@ -142,15 +183,22 @@ def linear(depth, surface_temperature, gradient, conductivity=2.5) -> GeothermPr
     _warn_if_above(
         g, _SLIP_GRADIENT, "gradient: above 1 K/m; gradients are in K/m (25 K/km is 0.025)"
     )
-    temperature = t0 + g * z  # T = T0 + G z
-    heat_flow = k * g  # Fourier's law, q = k G
-    temperature, heat_flow = np.broadcast_arrays(temperature, heat_flow)
+    parts = LinearGeotherm(t0, g, z, 0.0, k)  # T = T0 + G z; Fourier's law, q = k G
+    if split:
+        return parts
+    temperature, heat_flow = np.broadcast_arrays(parts.temperature, parts.heat_flow)
     return GeothermProfile(np.array(temperature), np.array(heat_flow))
 
 
 def layered_steady(
-    depth, surface_temperature, surface_heat_flow, thickness, heat_production, conductivity
-) -> GeothermProfile:
+    depth,
+    surface_temperature,
+    surface_heat_flow,
+    thickness,
+    heat_production,
+    conductivity,
+    split=False,
+) -> GeothermProfile | LinearGeotherm:
     """Steady 1-D conductive geotherm through layers of uniform heat production.
 
     Parameters
@@ -167,6 +215,8 @@ def layered_steady(
         Radiogenic heat production of each layer [W m^-3]; zero or more.
     conductivity : array_like
         Thermal conductivity of each layer [W m^-1 K^-1].
+    split : bool, optional
+        Return the parts (T0 - G) + q0 F (:class:`LinearGeotherm`, value = q0) instead.
 
     Returns
     -------
@@ -214,8 +264,8 @@ def layered_steady(
     q_tops = q0 - produced_above  # flux entering each layer top
     _check_flux_stays_positive(z, q0, h, tops, heat, q_tops)
 
-    # T = T0 + q0 F(z) - G(z): F and G depend only on the layering, so a batch of surface
-    # heat flows costs one multiply-add over the grid.
+    # T = (T0 - G(z)) + q0 F(z): F and G depend only on the layering, so a batch of
+    # surface heat flows costs one multiply-add over the grid.
     n_layers = h.shape[-1]
     F = G = produced = 0.0
     for i in range(n_layers):  # loop over layers only; each step is vectorised over depth
@@ -226,9 +276,8 @@ def layered_steady(
         F = F + dz / k_i
         G = G + (above * dz + 0.5 * heat_i * dz**2) / k_i  # layer solution, q_i = q0 - above
         produced = produced + heat_i * dz
-    temperature = t0 + q0 * F - G
-    heat_flow = q0 - produced  # q = q_i - H_i dz
-    return GeothermProfile(temperature, heat_flow)
+    parts = LinearGeotherm(t0 - G, q0, F, -produced, 1.0)  # q = q_i - H_i dz
+    return parts if split else GeothermProfile(parts.temperature, np.asarray(parts.heat_flow))
 
 
 def _check_flux_stays_positive(z, q0, h, tops, heat, q_tops) -> None:

@@ -23,6 +23,7 @@ from rheology.errors import RheologyError
 from rheology.physics.checks import checked, depth_array, layers_checked
 
 __all__ = [
+    "check_ratio",
     "hydrostatic_pressure",
     "hydrostatic_ratio",
     "lithostatic_pressure",
@@ -33,6 +34,11 @@ __all__ = [
 
 def _gravity(gravity: Any) -> np.ndarray:
     return checked(gravity, "gravity", "m s^-2", positive=True, what="gravitational acceleration")
+
+
+def check_ratio(value: Any, name: str) -> np.ndarray:
+    """``value`` as an array after checking it is a pore-pressure ratio in [0, 1)."""
+    return _ratio(value, name)
 
 
 def _ratio(value: Any, name: str) -> np.ndarray:

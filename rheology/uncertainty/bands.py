@@ -3,7 +3,8 @@
 ``column_percentiles(data, percentiles)`` equals ``numpy.percentile(data, percentiles,
 axis=0)`` (the default "linear" method: linear interpolation between order statistics,
 Hyndman & Fan 1996 definition 7) bit for bit, without sorting: each column is copied
-once and the needed order statistics are found by selection (Hoare's FIND, 1961).
+once and the needed order statistics are found by selection (Hoare's FIND, 1961, with
+branch-free Lomuto partitions).
 
 References
 ----------
@@ -30,34 +31,31 @@ def _select(a, lo, hi, k):
     """Reorder a[lo:hi] around its order statistic at index k (Hoare's FIND).
 
     Afterwards a[k] holds the value a sorted a[lo:hi] would have there, with none larger
-    before it and none smaller after it. The pivot is a median of three.
+    before it and none smaller after it. Partitions are Lomuto's, written without
+    branches (the comparison only moves the boundary); values equal to the pivot are
+    gathered in a second pass, so ties cost no more than distinct values.
     """
-    hi -= 1
-    while hi > lo:
-        mid = (lo + hi) // 2
-        if a[mid] < a[lo]:
-            a[mid], a[lo] = a[lo], a[mid]
-        if a[hi] < a[lo]:
-            a[hi], a[lo] = a[lo], a[hi]
-        if a[hi] < a[mid]:
-            a[hi], a[mid] = a[mid], a[hi]
-        pivot = a[mid]
-        i, j = lo, hi
-        while i <= j:
-            while a[i] < pivot:
-                i += 1
-            while a[j] > pivot:
-                j -= 1
-            if i <= j:
-                a[i], a[j] = a[j], a[i]
-                i += 1
-                j -= 1
-        if k <= j:
+    while hi - lo > 1:
+        x, y, z = a[lo], a[(lo + hi) // 2], a[hi - 1]
+        pivot = max(min(x, y), min(max(x, y), z))  # median of three
+        j = lo
+        for i in range(lo, hi):  # a[lo:j] < pivot <= a[j:i]
+            value = a[i]
+            a[i] = a[j]
+            a[j] = value
+            j += value < pivot
+        if k < j:
             hi = j
-        elif k >= i:
-            lo = i
-        else:
+            continue
+        e = j
+        for i in range(j, hi):  # a[j:e] == pivot < a[e:i]
+            value = a[i]
+            a[i] = a[e]
+            a[e] = value
+            e += value <= pivot
+        if k < e:
             return
+        lo = e
 
 
 @compiled
@@ -91,11 +89,11 @@ def _percentile_block(data, fractions, start, stop, out):
     for i in range(fractions.size):
         below[i] = min(int(math.floor((m - 1) * fractions[i])), m - 1)
     targets = np.unique(below)
-    following = np.full(fractions.size, m, np.int64)  # next placed index after each
+    following = np.full(fractions.size, m, np.int64)  # the next placed index after each
     for i in range(fractions.size):
         for k in targets:
             if k > below[i]:
-                following[i] = k
+                following[i] = k + 1
                 break
     for c0 in range(start, stop, _BLOCK):
         width = min(_BLOCK, stop - c0)
@@ -111,9 +109,8 @@ def _percentile_block(data, fractions, start, stop, out):
                     out[i, c0 + c] = column[m - 1]
                     continue
                 k = below[i]
-                a = column[k]
-                b = column[k + 1]  # the next order statistic: the least of what follows k
-                for j in range(k + 2, following[i]):  # up to the next placed index
+                a, b = column[k], np.inf
+                for j in range(k + 1, following[i]):  # the next order statistic
                     b = min(b, column[j])
                 t = virtual - math.floor(virtual)
                 step = b - a
