@@ -40,6 +40,18 @@ class CommandError(RheologyError):
     """A problem with the command line itself (a file, an option), reported as ``error:``."""
 
 
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one ``error:`` line and a pointer to --help.
+
+    Subcommand parsers are made with the same class (``add_subparsers`` uses the class of
+    the parser it belongs to), so every command reports its option errors this way.
+    """
+
+    def error(self, message: str):
+        """Print ``error: <message>`` and where to find help, then exit with code 2."""
+        self.exit(USAGE_ERROR, f"error: {message}\ntry '{self.prog} --help'\n")
+
+
 # ------------------------------------------------------------------- shared helpers
 
 
@@ -673,7 +685,7 @@ def build_parser() -> argparse.ArgumentParser:
     """The argument parser with every command of :data:`COMMANDS` registered."""
     from rheology import __version__
 
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="rheology",
         description="Strength envelopes and brittle-ductile transitions of the lithosphere "
         "from cited laboratory flow laws. Screening estimates only.",

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import argparse
+import math
 import pathlib
 from collections.abc import Sequence
 
@@ -36,3 +38,33 @@ def text_table(
         if number == 0:
             lines.append("  " + "  ".join("-" * w for w in widths))
     return "\n".join(lines)
+
+
+def whole_number(text: str) -> int:
+    """An option value that is a whole number, also when written as a float (``1e3``).
+
+    Parameters
+    ----------
+    text : str
+        The option value as typed, e.g. ``"1000"``, ``"1e3"`` or ``"1.5e3"``.
+
+    Returns
+    -------
+    int
+
+    Raises
+    ------
+    argparse.ArgumentTypeError
+        Not a number, or a number with a fractional part (``1.5``), or not finite.
+    """
+    try:
+        return int(text)
+    except ValueError:
+        pass
+    try:
+        value = float(text)
+    except ValueError:
+        value = math.nan
+    if not (math.isfinite(value) and value.is_integer()):
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number; expected e.g. 1000")
+    return int(value)

@@ -13,6 +13,7 @@ External references used here:
   strength of the demo column at 12 km).
 """
 
+import argparse
 import json
 import math
 import os
@@ -263,11 +264,49 @@ def test_missing_file_is_an_error_line(capsys, tmp_path):
     assert err == f"error: {missing}: no such file\n"
 
 
-def test_usage_errors_exit_2_as_argparse_does(capsys):
-    for argv in (["envelope"], ["nonsense"], ["envelope", DEMO, "--faulting", "sideways"], []):
-        code, out, err = run(capsys, *argv)
-        assert code == 2
-        assert "usage:" in err
+USAGE_ERRORS = {
+    "missing scenario": (["envelope"], "envelope", r"required: SCENARIO\.toml"),
+    "unknown command": (["nonsense"], "", r"invalid choice: 'nonsense'"),
+    "bad choice": (
+        ["envelope", DEMO, "--faulting", "sideways"],
+        "envelope",
+        r"argument --faulting: invalid choice: 'sideways'",
+    ),
+    "no command": ([], "", r"required: COMMAND"),
+    "bad number in a subcommand of rheology.uncertainty": (
+        ["uncertainty", DEMO, "--samples", "many"],
+        "uncertainty",
+        r"argument --samples: 'many' is not a whole number",
+    ),
+    "fraction where a whole number is expected": (
+        ["sites", "s.csv", "--scenario", DEMO, "--out", "o.csv", "--chunk", "1.5"],
+        "sites",
+        r"argument --chunk: '1\.5' is not a whole number",
+    ),
+}
+
+
+@pytest.mark.parametrize("case", sorted(USAGE_ERRORS))
+def test_usage_errors_are_one_error_line_and_exit_2(capsys, case):
+    """No usage block: one `error:` line, then one line pointing to --help."""
+    argv, command, expected = USAGE_ERRORS[case]
+    code, out, err = run(capsys, *argv)
+    assert code == 2 and out == ""
+    first, second = err.splitlines()
+    assert first.startswith("error: ") and re.search(expected, first), err
+    assert second == f"try '{' '.join(['rheology', command]).strip()} --help'"
+    assert "usage:" not in err
+
+
+def test_whole_numbers_may_be_written_in_float_notation():
+    from rheology.textout import whole_number
+
+    assert whole_number("1000") == 1000
+    assert whole_number("1e3") == 1000 and isinstance(whole_number("1e3"), int)
+    assert whole_number("1.5e3") == 1500
+    for text in ("1.5", "1e-3", "nan", "inf", "1e400", "ten"):
+        with pytest.raises(argparse.ArgumentTypeError, match=f"{re.escape(repr(text))} is not"):
+            whole_number(text)
 
 
 def test_help_exits_0(capsys):

@@ -16,7 +16,7 @@ import pathlib
 
 from rheology.constants import ZERO_CELSIUS
 from rheology.errors import RheologyError
-from rheology.textout import read_scenario_file, text_table
+from rheology.textout import read_scenario_file, text_table, whole_number
 
 _KM = 1e3
 #: Skipped rows listed on stderr by ``sites`` (the rest are counted).
@@ -51,11 +51,11 @@ def _add_uncertainty(subparsers) -> None:
     )
     parser.add_argument("scenario", metavar="SCENARIO.toml", help="scenario file (TOML)")
     parser.add_argument(
-        "--samples", type=int, default=1000, help="number of realisations (default 1000)"
+        "--samples", type=whole_number, default=1000, help="number of realisations (default 1000)"
     )
     parser.add_argument(
         "--seed",
-        type=int,
+        type=whole_number,
         default=None,
         help="random seed; the same seed repeats a run exactly (default: a "
         "fresh seed, printed with the results)",
@@ -114,7 +114,10 @@ def _add_uncertainty(subparsers) -> None:
         help="keep every flow law at its published central values",
     )
     parser.add_argument(
-        "--chunk", type=int, default=None, help="realisations evaluated at once (bounds memory)"
+        "--chunk",
+        type=whole_number,
+        default=None,
+        help="realisations evaluated at once (bounds memory)",
     )
     _add_workers(parser)
     parser.add_argument(
@@ -133,7 +136,7 @@ def _add_uncertainty(subparsers) -> None:
 def _add_workers(parser) -> None:
     parser.add_argument(
         "--workers",
-        type=int,
+        type=whole_number,
         default=1,
         help="threads evaluating chunks at once (default 1; 2 uses both cores "
         "of a 2-core machine); the results do not depend on it",
@@ -389,7 +392,7 @@ def _add_sites(subparsers) -> None:
         "--out", required=True, metavar="RESULTS.csv", help="results table to write (CSV)"
     )
     parser.add_argument(
-        "--chunk", type=int, default=None, help="sites evaluated at once (bounds memory)"
+        "--chunk", type=whole_number, default=None, help="sites evaluated at once (bounds memory)"
     )
     _add_workers(parser)
     parser.add_argument("--quiet", action="store_true", help="no progress line on stderr")
