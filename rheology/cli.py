@@ -24,7 +24,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 
 from rheology.errors import RheologyError
-from rheology.textout import read_scenario_file, text_table
+from rheology.textout import check_figure_path, read_scenario_file, text_table
 
 #: Exit codes.
 OK, INTERNAL_ERROR, USAGE_ERROR = 0, 1, 2
@@ -119,9 +119,7 @@ def _write_json(out, data) -> None:
 def _save_plot(analysis, path_text: str, companion=None) -> pathlib.Path:
     from rheology.plotting import save_figure, strength_figure
 
-    path = pathlib.Path(path_text)
-    if not path.suffix:
-        raise CommandError(f"--plot: {path_text!r} has no file suffix; give e.g. 'envelope.png'")
+    path = check_figure_path(path_text)
     save_figure(strength_figure(analysis, companion=companion), path)
     return path
 
@@ -266,6 +264,8 @@ def _run_envelope(args, out, err) -> int:
     from rheology.answers.report import analyse
     from rheology.outputs import analysis_to_dict, write_profile_csv
 
+    if args.plot:
+        check_figure_path(args.plot)
     scenario = _with_overrides(read_scenario_file(args.scenario), args)
     analysis = analyse(scenario)
     companion = None
@@ -601,6 +601,7 @@ def _run_demo(args, out, err) -> int:
     from rheology.outputs import analysis_to_dict
     from rheology.scenario import bundled_example
 
+    check_figure_path(args.plot)
     path = bundled_example("demo")
     analysis = analyse(read_scenario_file(str(path)))
     written = _save_plot(analysis, args.plot).resolve()

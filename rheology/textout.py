@@ -22,6 +22,41 @@ def read_scenario_file(path_text: str):
     return load_scenario(path)
 
 
+def check_figure_path(path_text: str, example: str = "envelope.png") -> pathlib.Path:
+    """The path of a figure to write, with a suffix that matplotlib can write.
+
+    Checked before any computation, so a bad ``--plot`` costs nothing.
+
+    Parameters
+    ----------
+    path_text : str
+        The ``--plot`` value as typed.
+    example : str, optional
+        A file name suggested in the message.
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    RheologyError
+        No suffix, or a suffix that names no format matplotlib writes.
+    """
+    from matplotlib.backend_bases import FigureCanvasBase  # no pyplot, no GUI
+
+    path = pathlib.Path(path_text)
+    if not path.suffix:
+        raise RheologyError(f"--plot: {path_text!r} has no file suffix; give e.g. {example!r}")
+    formats = FigureCanvasBase.get_supported_filetypes()
+    if path.suffix[1:].lower() not in formats:
+        raise RheologyError(
+            f"--plot: {path_text!r}: {path.suffix!r} is not a figure format; expected one of "
+            + ", ".join(sorted(formats))
+        )
+    return path
+
+
 def text_table(
     rows: Sequence[Sequence[str]], header: Sequence[str], right: set[int] = frozenset()
 ) -> str:

@@ -333,6 +333,31 @@ def test_unexpected_exception_is_an_internal_error_without_traceback(capsys, mon
     assert err == "internal error: ZeroDivisionError: simulated fault (please report it)\n"
 
 
+@pytest.mark.parametrize(
+    "argv",
+    [
+        ["envelope", DEMO],
+        ["envelope", DEMO, "--both-regimes"],
+        ["demo"],
+        ["uncertainty", DEMO, "--samples", "2", "--seed", "1"],
+    ],
+)
+def test_unknown_figure_format_is_an_error_line_before_any_work(capsys, tmp_path, argv):
+    target = tmp_path / "figure.xyz"
+    code, out, err = run(capsys, *argv, "--plot", target)
+    assert code == 2 and out == ""
+    assert err.startswith(f"error: --plot: '{target}': '.xyz' is not a figure format")
+    assert "png" in err and "svg" in err and err.count("\n") == 1
+    assert not target.exists()
+
+
+def test_figure_format_is_recognised_whatever_the_case_of_the_suffix(capsys, tmp_path):
+    path = tmp_path / "envelope.PNG"
+    code, _, err = run(capsys, "envelope", DEMO, "--plot", path)
+    assert code == 0, err
+    assert path.read_bytes()[:8] == PNG_SIGNATURE
+
+
 def test_unwritable_output_is_an_error_line(capsys, tmp_path):
     target = tmp_path / "no-such-dir" / "profile.csv"
     code, _, err = run(capsys, "envelope", DEMO, "--csv", target)
@@ -508,7 +533,7 @@ def test_command_line_helpers_raise_named_errors(tmp_path):
     with pytest.raises(rheology.RheologyError, match=r"--strain-rate: .*must be greater than"):
         cli._strain_rate("-1e-15 1/s")
     analysis = rheology.analyse(rheology.load_scenario(DEMO))
-    with pytest.raises(cli.CommandError, match=r"--plot: 'figure' has no file suffix"):
+    with pytest.raises(rheology.RheologyError, match=r"--plot: 'figure' has no file suffix"):
         cli._save_plot(analysis, "figure")
 
 

@@ -16,7 +16,12 @@ import pathlib
 
 from rheology.constants import ZERO_CELSIUS
 from rheology.errors import RheologyError
-from rheology.textout import read_scenario_file, text_table, whole_number
+from rheology.textout import (
+    check_figure_path,
+    read_scenario_file,
+    text_table,
+    whole_number,
+)
 
 _KM = 1e3
 #: Skipped rows listed on stderr by ``sites`` (the rest are counted).
@@ -197,10 +202,10 @@ def run_uncertainty(args, out, err) -> int:
     from rheology.answers.report import CAUTION
     from rheology.uncertainty.montecarlo import run_monte_carlo
 
+    if args.plot:
+        check_figure_path(args.plot, "spread.png")
     scenario = read_scenario_file(args.scenario)
     spread = _spread(args)
-    if args.plot and not pathlib.Path(args.plot).suffix:
-        raise RheologyError(f"--plot: {args.plot!r} has no file suffix; give e.g. 'spread.png'")
     result = run_monte_carlo(
         scenario, spread, args.samples, args.seed, chunk=args.chunk, workers=args.workers
     )
