@@ -5,7 +5,8 @@ from __future__ import annotations
 import argparse
 import math
 import pathlib
-from collections.abc import Sequence
+from collections.abc import Iterator, Mapping, Sequence
+from contextlib import contextmanager
 
 from rheology.errors import RheologyError
 
@@ -20,6 +21,29 @@ def read_scenario_file(path_text: str):
     if path.is_dir():
         raise RheologyError(f"{path_text}: is a directory, expected a scenario file (.toml)")
     return load_scenario(path)
+
+
+@contextmanager
+def option_names(names: Mapping[str, str]) -> Iterator[None]:
+    """Re-word errors of the Python API with the option the user typed.
+
+    A :class:`RheologyError` whose message starts with ``"<field>:"`` for a key of
+    ``names`` is raised again (same class) starting with the option instead, e.g.
+    ``"depth: ..."`` becomes ``"--depth: ..."``.
+
+    Parameters
+    ----------
+    names : mapping of str to str
+        API field name -> command-line option.
+    """
+    try:
+        yield
+    except RheologyError as exc:
+        message = str(exc)
+        for field, option in names.items():
+            if message.startswith(f"{field}:"):
+                raise type(exc)(option + message[len(field) :]) from None
+        raise
 
 
 def check_figure_path(path_text: str, example: str = "envelope.png") -> pathlib.Path:

@@ -22,6 +22,7 @@ import re
 import struct
 import subprocess
 import sys
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -298,6 +299,14 @@ def test_usage_errors_are_one_error_line_and_exit_2(capsys, case):
     assert "usage:" not in err
 
 
+def test_api_checks_are_reported_with_the_option_names(capsys):
+    """The Monte Carlo API says 'samples: ...'; the command line says '--samples: ...'."""
+    code, _, err = run(capsys, "uncertainty", DEMO, "--samples", "1")
+    assert code == 2 and err == "error: --samples: got 1; expected a whole number >= 2\n"
+    code, _, err = run(capsys, "uncertainty", DEMO, "--samples", "2", "--workers", "0")
+    assert code == 2 and err.startswith("error: --workers: got 0;")
+
+
 def test_whole_numbers_may_be_written_in_float_notation():
     from rheology.textout import whole_number
 
@@ -421,9 +430,131 @@ def test_point_needs_both_stress_and_duration(capsys):
     assert code == 2 and "--stress and --duration" in err
 
 
-def test_point_depth_outside_the_column(capsys):
+def test_point_depth_outside_the_column_is_reported_in_km(capsys):
     code, _, err = run(capsys, "point", DEMO, "--depth", "500 km")
-    assert code == 2 and err.startswith("error: depth:")
+    max_km = rheology.load_scenario(DEMO).max_depth / 1e3
+    assert code == 2
+    assert err == f"error: --depth: 500 km is outside the column; expected 0 to {max_km:g} km\n"
+
+
+@pytest.mark.parametrize(
+    "option, value",
+    [
+        ("--rock", "olivine-wet"),
+        ("--temperature", "450 degC"),
+        ("--pressure", "300 MPa"),
+        ("--pore-pressure-ratio", "0.4"),
+        ("--grain-size", "1 mm"),
+        ("--water-fugacity", "500 MPa"),
+        ("--water-content", "1000"),
+    ],
+)
+def test_point_with_a_scenario_rejects_the_options_for_given_conditions(capsys, option, value):
+    """These options used to be ignored silently when a scenario file was given."""
+    code, out, err = run(capsys, "point", DEMO, "--depth", "12 km", option, value)
+    assert code == 2 and out == ""
+    assert err.startswith(f"error: {option}: only without a scenario file; ")
+    assert err.count("\n") == 1
+
+
+def test_point_faulting_replaces_the_regime_of_the_scenario(capsys):
+    """Normal faulting needs less differential stress than thrusting at the same depth
+    (Sibson 1974, Nature 249, 542-544: Andersonian stress ratios), so --faulting must
+    reach the answer rather than being ignored."""
+    scenario = rheology.load_scenario(DEMO)
+    assert scenario.faulting == "thrust"
+    brittle = {}
+    for regime in ("thrust", "normal"):
+        code, out, err = run(
+            capsys, "point", DEMO, "--depth", "5 km", "--faulting", regime, "--json"
+        )
+        assert code == 0, err
+        brittle[regime] = _strict_json(out)["brittle_MPa"]
+        expected = rheology.point_answer(replace(scenario, faulting=regime), 5e3).brittle
+        assert brittle[regime] == pytest.approx(expected / 1e6, rel=1e-12)  # rounding only
+    assert brittle["normal"] < brittle["thrust"]
+
+
+CONDITIONS = ("--temperature", "900 degC", "--pressure", "1 GPa", "--strain-rate", "1e-15")
+
+
+@pytest.mark.parametrize(
+    "extra, expected",
+    [
+        (
+            ["--rock", "olivine-wet"],
+            "error: --grain-size: needed by rock 'olivine-wet' (diffusion creep depends on "
+            'grain size); give e.g. --grain-size "1 mm"',
+        ),
+        (
+            ["--rock", "olivine-wet", "--grain-size", "1 mm"],
+            "error: --water-fugacity: needed by rock 'olivine-wet' (its creep depends on the "
+            'water fugacity); give e.g. --water-fugacity "500 MPa"',
+        ),
+        (
+            ["--rock", "olivine-wet-coh", "--grain-size", "1 mm"],
+            "error: --water-content: needed by rock 'olivine-wet-coh' (its creep depends on "
+            "the OH content); give e.g. --water-content 1000",
+        ),
+        (
+            ["--rock", "olivine-wet-coh", "--grain-size", "1 mm", "--water-fugacity", "1 GPa"],
+            "error: --water-fugacity: rock 'olivine-wet-coh' takes water as its OH content; "
+            "give --water-content instead",
+        ),
+        (
+            ["--rock", "quartzite-wet", "--grain-size", "1 mm"],
+            "error: --grain-size: rock 'quartzite-wet' has no grain-size-sensitive law; "
+            "leave it out",
+        ),
+        (
+            ["--rock", "olivine-dry", "--water-content", "1000"],
+            "error: --water-content: rock 'olivine-dry' has no explicit water term",
+        ),
+        (
+            ["--rock", "quartzite-wet", "--pore-pressure-ratio", "1.5"],
+            "error: --pore-pressure-ratio: got 1.5; expected a number from 0 (dry) up to, "
+            "not including, 1 (lithostatic)",
+        ),
+        (["--rock", "cheese"], "error: --rock: unknown rock 'cheese'"),
+        (
+            ["--rock", "quartzite-wet", "--depth", "3 km"],
+            "error: --depth: only with a scenario file",
+        ),
+    ],
+)
+def test_point_at_conditions_names_the_option_to_give(capsys, extra, expected):
+    code, out, err = run(capsys, "point", *CONDITIONS, *extra)
+    assert code == 2 and out == ""
+    assert err.startswith(expected) and err.count("\n") == 1, err
+
+
+def test_point_at_conditions_takes_an_oh_content(capsys):
+    """The OH-content form of a wet olivine law (C_OH in H/10^6 Si) is reachable from the
+    command line, and the answer is the API's."""
+    from rheology.answers.point import conditions_answer
+
+    code, out, err = run(
+        capsys,
+        "point",
+        *CONDITIONS,
+        "--rock",
+        "olivine-wet-coh",
+        "--grain-size",
+        "1 mm",
+        "--water-content",
+        "1000",
+        "--json",
+    )
+    assert code == 0, err
+    expected = conditions_answer(
+        rheology.get_rock("olivine-wet-coh"),
+        1173.15,
+        1e9,
+        1e-15,
+        grain_size=1e-3,
+        water=1000.0,
+    )
+    assert _strict_json(out)["ductile_MPa"] == pytest.approx(expected.ductile / 1e6, rel=1e-9)
 
 
 # ---------------------------------------------------------------------- rocks, law
@@ -472,6 +603,7 @@ def test_law_invariant_prefactor_follows_the_second_invariant_conversion(capsys)
 def test_law_unknown_id_is_an_error_line(capsys):
     code, _, err = run(capsys, "law", "qtz-wet-gt59")
     assert code == 2 and err.startswith("error: unknown flow law 'qtz-wet-gt59'")
+    assert "`rheology rocks --laws`" in err and err.count("\n") == 1
 
 
 # --------------------------------------------------------------------- demo, app

@@ -18,6 +18,7 @@ from rheology.constants import ZERO_CELSIUS
 from rheology.errors import RheologyError
 from rheology.textout import (
     check_figure_path,
+    option_names,
     read_scenario_file,
     text_table,
     whole_number,
@@ -26,6 +27,13 @@ from rheology.textout import (
 _KM = 1e3
 #: Skipped rows listed on stderr by ``sites`` (the rest are counted).
 _LISTED_ERRORS = 20
+#: Arguments of the Python API named by their options in error messages.
+_RUN_OPTIONS = {
+    "samples": "--samples",
+    "seed": "--seed",
+    "chunk": "--chunk",
+    "workers": "--workers",
+}
 
 
 def register(subparsers) -> None:
@@ -206,9 +214,10 @@ def run_uncertainty(args, out, err) -> int:
         check_figure_path(args.plot, "spread.png")
     scenario = read_scenario_file(args.scenario)
     spread = _spread(args)
-    result = run_monte_carlo(
-        scenario, spread, args.samples, args.seed, chunk=args.chunk, workers=args.workers
-    )
+    with option_names(_RUN_OPTIONS):
+        result = run_monte_carlo(
+            scenario, spread, args.samples, args.seed, chunk=args.chunk, workers=args.workers
+        )
     notices = []
     if args.plot:
         from rheology.uncertainty.figures import uncertainty_figure
@@ -441,9 +450,15 @@ def run_sites(args, out, err) -> int:
     scenario = read_scenario_file(args.scenario)
     progress = ProgressLine(err, enabled=not args.quiet)
     try:
-        results = process_sites(
-            sites, scenario, args.out, chunk=args.chunk, progress=progress, workers=args.workers
-        )
+        with option_names(_RUN_OPTIONS):
+            results = process_sites(
+                sites,
+                scenario,
+                args.out,
+                chunk=args.chunk,
+                progress=progress,
+                workers=args.workers,
+            )
     finally:
         progress.close()
     failed = results.failed
