@@ -25,6 +25,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 
 from rheology.errors import RheologyError
+from rheology.plausibility import check_plausible
 from rheology.textout import check_figure_path, option_names, read_scenario_file, text_table
 
 #: Exit codes.
@@ -100,7 +101,9 @@ def _strain_rate(text: str | None) -> float | None:
     if text is None:
         return None
     value = float(text) if _is_bare_number(text) else text
-    return to_si(value, "1/s", "--strain-rate", positive=True)
+    rate = to_si(value, "1/s", "--strain-rate", positive=True)
+    check_plausible("strain_rate", rate, "--strain-rate", text)
+    return rate
 
 
 def _with_overrides(scenario, args):
@@ -386,7 +389,9 @@ def _grain_size_option(args, rock) -> float | None:
             f"--grain-size: needed by rock {rock.id!r} ({words} {verb} on grain size); "
             'give e.g. --grain-size "1 mm"'
         )
-    return _quantity(args.grain_size, "mm", "--grain-size", positive=True)
+    grain = _quantity(args.grain_size, "mm", "--grain-size", positive=True)
+    check_plausible("grain_size", grain, "--grain-size", args.grain_size)
+    return grain
 
 
 def _water_option(args, rock) -> float | None:

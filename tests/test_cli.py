@@ -258,6 +258,22 @@ def test_bad_scenario_file_gives_one_error_line_and_exit_2(capsys, tmp_path, cas
     assert re.search(expected, err), err
 
 
+def test_implausible_values_are_one_warning_line_each(capsys, tmp_path):
+    """Ranges of rheology/plausibility.py (common practice); the run still completes."""
+    path = tmp_path / "slip.toml"
+    text = _demo_text().replace('density = "2700 kg/m^3"', 'density = "2.7 kg/m^3"')
+    assert text != _demo_text()
+    path.write_text(text, encoding="utf-8")
+    code, out, err = run(capsys, "envelope", path, "--strain-rate", "1e-40")
+    assert code == 0 and out
+    assert err.splitlines() == [
+        "warning: layers[0].density: 2.7 kg/m^3 is far below rock densities "
+        "(1000-4500 kg/m^3); was it g/cm^3?",
+        "warning: --strain-rate: 1e-40 is far below geological and laboratory strain rates "
+        "(1e-20 to 1e-2 1/s)",
+    ]
+
+
 def test_missing_file_is_an_error_line(capsys, tmp_path):
     missing = tmp_path / "SCENARIO.toml"
     code, out, err = run(capsys, "envelope", missing)
