@@ -556,12 +556,23 @@ def _add_rocks(subparsers) -> None:
     parser.set_defaults(handler=_run_rocks)
 
 
+_SYMBOLS = (
+    "(n stress exponent, m grain-size exponent (d^-m), r water exponent; "
+    "p, q shape exponents of low-temperature plasticity)"
+)
+
+
 def _law_line(law) -> str:
+    """The published parameters of ``law`` in one line.
+
+    The grain-size exponent is shown as m (d^-m), so that p and q stay the shape
+    exponents of a Peierls law.
+    """
     from rheology.outputs import law_to_dict
 
     published = law_to_dict(law)["published"]
     text = (
-        f"A = {law.A_published}, n = {law.n:g}, p = {law.grain_size_exponent:g}, "
+        f"A = {law.A_published}, n = {law.n:g}, m = {law.grain_size_exponent:g}, "
         f"r = {law.water_exponent:g} ({published['water']}), Q = {law.Q / 1e3:g} kJ/mol, "
         f"V = {law.V / 1e-6:g} cm^3/mol"
     )
@@ -604,6 +615,7 @@ def _run_rocks(args, out, err) -> int:
             "",
             f"{len(laws)} flow laws (triaxial convention: differential stress, "
             "axial strain rate; A as published):",
+            _SYMBOLS,
         ]
         for law in laws.values():
             lines += [
@@ -648,6 +660,7 @@ def _run_law(args, out, err) -> int:
         "as published (triaxial: differential stress sigma_d = sigma1 - sigma3, "
         "axial strain rate edot_ax):",
         f"  {_law_line(law)}",
+        f"  {_SYMBOLS}",
         "",
         "in SI:",
         f"  A = {law.A:.6g} {si['A_units']}, Q = {law.Q:.6g} J/mol, V = {law.V:.6g} m^3/mol",

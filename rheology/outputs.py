@@ -496,7 +496,7 @@ def law_to_dict(law) -> dict[str, Any]:
     else:
         terms = ["A_II", "tau_II^n"]
         if law.grain_size_exponent:
-            terms.append("d^-p")
+            terms.append("d^-m")  # m: grain-size exponent (p, q belong to Peierls laws)
         if law.water_form in ("fugacity", "OH"):
             terms.append("w^r")
         equation = "edot_II = " + " ".join(terms) + " exp(-(Q + P V)/(R T))"

@@ -598,6 +598,30 @@ def test_rocks_text_lists_ids_and_laws(capsys):
         assert law.id in out and law.A_published in out
 
 
+def _published_line(out, law_id):
+    lines = out.splitlines()
+    index = next(i for i, line in enumerate(lines) if line.startswith(law_id))
+    return lines[index + 1]
+
+
+def test_grain_size_exponent_is_m_and_peierls_exponents_are_p_q(capsys):
+    """One symbol per quantity: d^-m for grain size, p and q only for the shape of a
+    Peierls law (a format check; the values shown are those of the reference tables)."""
+    code, out, _ = run(capsys, "rocks", "--laws")
+    assert code == 0
+    peierls = _published_line(out, "ol-peierls-mei10")
+    law = rheology.get_flow_law("ol-peierls-mei10")
+    assert f", m = {law.grain_size_exponent:g}," in peierls
+    assert f"p = {law.peierls_p:g}, q = {law.peierls_q:g}" in peierls
+    assert peierls.count("p = ") == 1
+    diffusion = _published_line(out, "an-wet-diff-rd00")
+    exponent = rheology.get_flow_law("an-wet-diff-rd00").grain_size_exponent
+    assert exponent > 0 and f", m = {exponent:g}," in diffusion and "p = " not in diffusion
+    code, out, _ = run(capsys, "law", "an-wet-diff-rd00")
+    assert "d^-m" in out and "d^-p" not in out
+    assert "m grain-size exponent (d^-m)" in out
+
+
 def test_law_invariant_prefactor_follows_the_second_invariant_conversion(capsys):
     """A_II = 0.5 * 3^((n+1)/2) * A and F2 = 0.3029 for n = 3 (standard conversion;
     derived in the reference notes sec. 7.1; Gerya 2019 ch. 6, from memory)."""
