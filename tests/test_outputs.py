@@ -119,12 +119,39 @@ def test_viscosity_follows_the_triaxial_convention(demo, demo_dict):
     rate = demo_dict["strain_rate_per_s"]
     tau_ii = strength_pa / math.sqrt(3.0)
     edot_ii = math.sqrt(3.0) / 2.0 * rate
+    viscosity = demo_dict["profile"]["viscosity_Pa_s"]
+    strong = strength_pa > 0
     # the MPa round trip (x 1e-6 then x 1e6) costs a few ulp
     np.testing.assert_allclose(
-        demo_dict["profile"]["viscosity_Pa_s"], tau_ii / (2 * edot_ii), rtol=1e-12
+        np.array(viscosity, dtype=object)[strong].astype(float),
+        (tau_ii / (2 * edot_ii))[strong],
+        rtol=1e-12,
     )
     text = demo_dict["conventions"]["viscosity"]
     assert "tau_II / (2 edot_II)" in text and "sigma_d / (3 edot_ax)" in text
+
+
+def test_viscosity_is_null_where_the_strength_is_zero(demo, demo_dict, tmp_path):
+    """A zero viscosity (zero strength at the surface of a cohesionless column, Byerlee
+    1978 with no cohesion) would be taken at face value by a numerical model: it is
+    written as null in JSON and left empty in CSV, and the conventions say so."""
+    strength = demo_dict["profile"]["strength_MPa"]
+    viscosity = demo_dict["profile"]["viscosity_Pa_s"]
+    weak = [i for i, value in enumerate(strength) if value == 0.0]
+    assert weak and weak[0] == 0  # the demo's surface node
+    assert all(viscosity[i] is None for i in weak)
+    assert all(v is None or v > 0 for v in viscosity)
+    assert (
+        "null (JSON) or empty (CSV) where the envelope strength is zero"
+        in (demo_dict["conventions"]["viscosity"])
+    )
+    assert demo_dict["notes"][0].endswith("This object has 0 such value(s).")
+    path = tmp_path / "profile.csv"
+    outputs.write_profile_csv(demo, path)
+    frame = pd.read_csv(path, comment="#")
+    column = frame["effective viscosity [Pa s]"]
+    assert column.isna().tolist() == [value is None for value in viscosity]
+    assert "empty where the strength is zero" in path.read_text(encoding="utf-8").splitlines()[0]
 
 
 def test_json_is_standard_json_without_nan_or_infinity(demo):
@@ -207,11 +234,10 @@ def test_csv_reads_back_with_pandas_and_matches_the_json(demo, demo_dict, tmp_pa
         "effective viscosity [Pa s]": "viscosity_Pa_s",
     }
     for column, key in pairs.items():
+        expected = [math.nan if value is None else value for value in profile[key]]
         # pandas writes repr() of each float and its default parser reads it back
-        # correctly rounded: allow one ulp
-        np.testing.assert_allclose(
-            frame[column].to_numpy(), profile[key], rtol=2e-16, err_msg=column
-        )
+        # correctly rounded: allow one ulp (a JSON null is an empty CSV cell, NaN here)
+        np.testing.assert_allclose(frame[column].to_numpy(), expected, rtol=2e-16, err_msg=column)
     assert frame["mechanism"].tolist() == profile["mechanism"]
 
 
