@@ -127,3 +127,25 @@ def whole_number(text: str) -> int:
     if not (math.isfinite(value) and value.is_integer()):
         raise argparse.ArgumentTypeError(f"{text!r} is not a whole number; expected e.g. 1000")
     return int(value)
+
+
+def share_text(fraction: float) -> str:
+    """A share as a whole percentage, never rounded to 0 % or 100 % when it is not.
+
+    Parameters
+    ----------
+    fraction : float
+        A share in [0, 1].
+
+    Returns
+    -------
+    str
+        ``'<1%'`` for a rare but present case that would round to 0 %, ``'>99%'`` for a
+        near but not total one that would round to 100 %, else e.g. ``'37%'``.
+    """
+    shown = f"{100 * fraction:.0f}"
+    if fraction > 0 and shown == "0":
+        return "<1%"
+    if fraction < 1 and shown == "100":
+        return ">99%"
+    return f"{shown}%"

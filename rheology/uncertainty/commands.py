@@ -20,6 +20,7 @@ from rheology.textout import (
     check_figure_path,
     option_names,
     read_scenario_file,
+    share_text,
     text_table,
     whole_number,
 )
@@ -247,21 +248,12 @@ def _fmt(value: float, digits: int = 1) -> str:
     return "-" if not math.isfinite(value) else f"{value:.{digits}f}"
 
 
-def _share(fraction: float) -> str:
-    """A share as a percentage; '<1%' rather than '0%' for a rare but present case."""
-    if 0 < fraction < 0.005:
-        return "<1%"
-    if 0.995 <= fraction < 1:
-        return ">99%"
-    return f"{100 * fraction:.0f}%"
-
-
 def _quantile_row(name, q, scale, offset=0.0, digits=1, samples=1):
     shown = [
         (x / scale - offset) if math.isfinite(x) else math.nan
         for x in (q.p10, q.p50, q.p90, q.mean)
     ]
-    return (name, *(_fmt(x, digits) for x in shown), _share(q.count / samples))
+    return (name, *(_fmt(x, digits) for x in shown), share_text(q.count / samples))
 
 
 def summary_text(result) -> str:
@@ -331,7 +323,7 @@ def summary_text(result) -> str:
                 t.kind,
                 t.layer,
                 str(t.occurrence),
-                _share(t.fraction),
+                share_text(t.fraction),
                 _fmt(t.depth.p10 / _KM, 2),
                 _fmt(t.depth.p50 / _KM, 2),
                 _fmt(t.depth.p90 / _KM, 2),
