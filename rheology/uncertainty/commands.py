@@ -226,7 +226,7 @@ def run_uncertainty(args, out, err) -> int:
         figure = uncertainty_figure(result)
         figure.savefig(args.plot, dpi=150)
         notices.append(f"figure written to {args.plot}")
-    if not result.inputs:
+    if not result.inputs and spread.law_spread:  # with --no-law-spread the user knows
         notices.append(
             "warning: no input varies (no spread given and no flow law with a "
             "published uncertainty); every realisation is the same"
