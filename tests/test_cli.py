@@ -5,8 +5,12 @@ External references used here:
 * JSON, RFC 8259 (2017) sec. 6 (no NaN/Infinity), parsed with the standard library;
 * PNG signature and IHDR chunk, ISO/IEC 15948:2004 (W3C PNG 2nd ed.) sec. 5.2 and 11.2.2;
 * the triaxial-to-invariant conversion A_II = 0.5 * 3^((n+1)/2) * A and
-  F2 = 2^((1-n)/n) / 3^((n+1)/(2n)) = 0.3029 for n = 3 (standard result, derived in the
-  project's reference notes, section 7.1; Gerya 2019 ch. 6 and Ranalli 1995 from memory);
+  F2 = 2^((1-n)/n) / 3^((n+1)/(2n)) = 0.3029 for n = 3 (standard result; Gerya 2019
+  ch. 6 and Ranalli 1995, from memory), worked by hand: with tau_II = sigma_d/sqrt(3)
+  and edot_II = (sqrt(3)/2) edot_ax, the law edot_ax = A sigma_d^n becomes
+  edot_II = (sqrt(3)/2) A (sqrt(3) tau_II)^n = 0.5 * 3^((n+1)/2) A tau_II^n; then
+  eta = tau_II / (2 edot_II) = 0.5 A_II^(-1/n) edot_II^((1-n)/n)
+  = F2 A^(-1/n) edot_II^((1-n)/n), so F2 = 0.5 * 2^(1/n) / 3^((n+1)/(2n));
 * the Maxwell time t_M = eta / G (Turcotte & Schubert 2002, *Geodynamics*, 2nd ed.,
   sec. 7.10, from memory) for the direction of the point command's verdicts;
 * Byerlee (1978) friction for the "breaks" case (a load far above the frictional
@@ -623,8 +627,8 @@ def test_grain_size_exponent_is_m_and_peierls_exponents_are_p_q(capsys):
 
 
 def test_law_invariant_prefactor_follows_the_second_invariant_conversion(capsys):
-    """A_II = 0.5 * 3^((n+1)/2) * A and F2 = 0.3029 for n = 3 (standard conversion;
-    derived in the reference notes sec. 7.1; Gerya 2019 ch. 6, from memory)."""
+    """A_II = 0.5 * 3^((n+1)/2) * A and F2 = 0.3029 for n = 3 (standard conversion, worked
+    by hand in the module docstring; Gerya 2019 ch. 6, from memory)."""
     law = rheology.get_flow_law("an-wet-disl-rd00")
     assert law.n == 3.0
     code, out, err = run(capsys, "law", law.id, "--json")

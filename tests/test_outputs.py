@@ -7,10 +7,14 @@ External references used here:
   1 mW = 1e-3 W;
 * JSON, RFC 8259 (2017), section 6: NaN and Infinity are not permitted number values;
 * CSV, RFC 4180 (2005), section 2: fields in double quotes may contain any character;
-* the triaxial viscosity convention eta = sigma_d / (3 edot_ax) (tau_II = sigma_d/sqrt(3),
-  edot_II = (sqrt(3)/2) edot_ax), the standard conversion of a triaxial law to second
-  invariants (Gerya 2019, *Introduction to Numerical Geodynamic Modelling*, ch. 6, from
-  memory; derived in the project's reference notes, section 7.1).
+* the triaxial viscosity convention eta = sigma_d / (3 edot_ax), the standard conversion
+  of a triaxial law to second invariants (Gerya 2019, *Introduction to Numerical
+  Geodynamic Modelling*, ch. 6, and Ranalli 1995, both from memory), worked by hand:
+  with tau_II = sigma_d/sqrt(3) and edot_II = (sqrt(3)/2) edot_ax,
+  eta = tau_II / (2 edot_II) = sigma_d / (3 edot_ax); the law edot_ax = A sigma_d^n
+  becomes edot_II = 0.5 * 3^((n+1)/2) A tau_II^n = A_II tau_II^n, so
+  eta = 0.5 A_II^(-1/n) edot_II^((1-n)/n) = F2 A^(-1/n) edot_II^((1-n)/n) with
+  F2 = 2^((1-n)/n) / 3^((n+1)/(2n)) (0.3029 for n = 3, 1/3 for n = 1).
 """
 
 import dataclasses
@@ -290,7 +294,7 @@ def test_point_to_dict_is_json_safe_and_converted(demo):
 def test_law_invariant_form_matches_the_second_invariant_conversion(law_id, n, f2):
     """A_II = 0.5 * 3^((n+1)/2) * A and F2 = 0.3029 (n = 3), 0.3008 (3.5), 0.2992 (4),
     1/3 (n = 1, Trouton): standard triaxial-to-invariant conversion (Gerya 2019 ch. 6 and
-    Ranalli 1995, both from memory; derived in the project's reference notes, 7.1)."""
+    Ranalli 1995, both from memory), worked by hand in the module docstring."""
     law = rheology.get_flow_law(law_id)
     assert law.n == n
     data = outputs.law_to_dict(law)

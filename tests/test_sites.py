@@ -60,13 +60,13 @@ def _read(text, scenario):
     return read_sites(io.StringIO(text), scenario)
 
 
-def test_sites_reproduce_the_reference_crossover_table():
+def test_sites_reproduce_the_gleason_tullis_crossover_table():
     """Gleason & Tullis (1995) wet quartzite (from memory) under Byerlee (1978) friction,
     linear geotherm 10 degC + 25 K/km, rho 2700 kg/m^3, 1e-15 1/s, one site per regime
     and pore-pressure ratio. Crossover depths 9.44 / 9.92 (thrust), 10.57 / 11.30
     (strike-slip), 11.36 / 12.15 km (normal) at lambda = 0 / 0.37, and integrated strength
-    0-40 km on a 10 m grid 5.160 / 3.968 (thrust), 1.902 / 1.372 TN/m (normal). Derived
-    values (independent arithmetic of the project's reference notes, not published); the
+    0-40 km on a 10 m grid 5.160 / 3.968 (thrust), 1.902 / 1.372 TN/m (normal). Regression
+    values of our own, computed outside this package (derived, not published); the
     tolerances are their rounding (0.005 km, 0.0005 TN/m)."""
     scenario = _gt95_column()
     table = _read(
