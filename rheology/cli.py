@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import pathlib
 import subprocess
 import sys
@@ -24,7 +25,8 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 
 from rheology.errors import RheologyError
-from rheology.textout import read_scenario_file, text_table
+from rheology.plausibility import check_plausible
+from rheology.textout import check_figure_path, option_names, read_scenario_file, text_table
 
 #: Exit codes.
 OK, INTERNAL_ERROR, USAGE_ERROR = 0, 1, 2
@@ -38,6 +40,18 @@ _YEAR = 3.15576e7  # Julian year [s]
 
 class CommandError(RheologyError):
     """A problem with the command line itself (a file, an option), reported as ``error:``."""
+
+
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one ``error:`` line and a pointer to --help.
+
+    Subcommand parsers are made with the same class (``add_subparsers`` uses the class of
+    the parser it belongs to), so every command reports its option errors this way.
+    """
+
+    def error(self, message: str):
+        """Print ``error: <message>`` and where to find help, then exit with code 2."""
+        self.exit(USAGE_ERROR, f"error: {message}\ntry '{self.prog} --help'\n")
 
 
 # ------------------------------------------------------------------- shared helpers
@@ -87,7 +101,9 @@ def _strain_rate(text: str | None) -> float | None:
     if text is None:
         return None
     value = float(text) if _is_bare_number(text) else text
-    return to_si(value, "1/s", "--strain-rate", positive=True)
+    rate = to_si(value, "1/s", "--strain-rate", positive=True)
+    check_plausible("strain_rate", rate, "--strain-rate", text)
+    return rate
 
 
 def _with_overrides(scenario, args):
@@ -107,9 +123,7 @@ def _write_json(out, data) -> None:
 def _save_plot(analysis, path_text: str, companion=None) -> pathlib.Path:
     from rheology.plotting import save_figure, strength_figure
 
-    path = pathlib.Path(path_text)
-    if not path.suffix:
-        raise CommandError(f"--plot: {path_text!r} has no file suffix; give e.g. 'envelope.png'")
+    path = check_figure_path(path_text)
     save_figure(strength_figure(analysis, companion=companion), path)
     return path
 
@@ -254,6 +268,8 @@ def _run_envelope(args, out, err) -> int:
     from rheology.answers.report import analyse
     from rheology.outputs import analysis_to_dict, write_profile_csv
 
+    if args.plot:
+        check_figure_path(args.plot)
     scenario = _with_overrides(read_scenario_file(args.scenario), args)
     analysis = analyse(scenario)
     companion = None
@@ -299,22 +315,32 @@ def _add_point(subparsers) -> None:
     )
     parser.add_argument("--depth", help="depth with units, e.g. '12 km' (with a scenario)")
     parser.add_argument("--rock", help="rock id from `rheology rocks` (without a scenario)")
-    parser.add_argument("--temperature", help="temperature, e.g. '450 degC'")
-    parser.add_argument("--pressure", help="lithostatic pressure, e.g. '300 MPa'")
+    parser.add_argument("--temperature", help="temperature, e.g. '450 degC' (without a scenario)")
+    parser.add_argument(
+        "--pressure", help="lithostatic pressure, e.g. '300 MPa' (without a scenario)"
+    )
     parser.add_argument(
         "--faulting",
-        choices=["thrust", "strike-slip", "normal"],
-        default="thrust",
-        help="faulting regime without a scenario",
+        choices=FAULTING_CHOICES,
+        help="faulting regime (default thrust without a scenario; replaces the scenario's)",
     )
     parser.add_argument(
         "--pore-pressure-ratio",
         type=float,
-        default=0.0,
-        help="pore pressure / lithostatic without a scenario (default 0)",
+        help="pore pressure / lithostatic, without a scenario (default 0)",
     )
-    parser.add_argument("--grain-size", help="grain size, e.g. '1 mm', if the rock needs it")
-    parser.add_argument("--water-fugacity", help="water fugacity, e.g. '500 MPa', if needed")
+    parser.add_argument(
+        "--grain-size", help="grain size, e.g. '1 mm', if the rock needs it (without a scenario)"
+    )
+    parser.add_argument(
+        "--water-fugacity",
+        help="water fugacity, e.g. '500 MPa', if the rock needs it (without a scenario)",
+    )
+    parser.add_argument(
+        "--water-content",
+        type=float,
+        help="OH content [H/10^6 Si], e.g. 1000, if the rock needs it (without a scenario)",
+    )
     _add_strain_rate(parser)
     parser.add_argument("--stress", help="applied differential stress, e.g. '150 MPa'")
     parser.add_argument("--duration", help="how long the load is held, e.g. '1000 yr'")
@@ -322,11 +348,102 @@ def _add_point(subparsers) -> None:
     parser.set_defaults(handler=_run_point)
 
 
+#: Options of `point` that describe a rock at given conditions, and why a scenario
+#: file makes each of them meaningless.
+_CONDITIONS_ONLY = {
+    "rock": "the scenario's layers give the rock at each depth",
+    "temperature": "the scenario's geotherm gives it at --depth",
+    "pressure": "the scenario's densities give it at --depth",
+    "pore_pressure_ratio": "the scenario sets the pore pressure",
+    "grain_size": "the scenario's layers give it",
+    "water_fugacity": "the scenario's layers give it",
+    "water_content": "the scenario's layers give it",
+}
+_MECHANISM_WORDS = {"peierls": "low-temperature plasticity"}
+
+
+def _option(name: str) -> str:
+    return "--" + name.replace("_", "-")
+
+
+def _reject_conditions_options(args) -> None:
+    """With a scenario file, the options for a rock at given conditions are errors."""
+    for name, why in _CONDITIONS_ONLY.items():
+        if getattr(args, name) is not None:
+            raise CommandError(f"{_option(name)}: only without a scenario file; {why}")
+
+
+def _grain_size_option(args, rock) -> float | None:
+    """--grain-size in metres if the rock needs it (an error if missing or unused)."""
+    sensitive = sorted({law.mechanism for law in rock.laws if law.needs_grain_size})
+    if not sensitive:
+        if args.grain_size is not None:
+            raise CommandError(
+                f"--grain-size: rock {rock.id!r} has no grain-size-sensitive law; leave it out"
+            )
+        return None
+    if args.grain_size is None:
+        words = " and ".join(_MECHANISM_WORDS.get(m, f"{m} creep") for m in sensitive)
+        verb = "depends" if len(sensitive) == 1 else "depend"
+        raise CommandError(
+            f"--grain-size: needed by rock {rock.id!r} ({words} {verb} on grain size); "
+            'give e.g. --grain-size "1 mm"'
+        )
+    grain = _quantity(args.grain_size, "mm", "--grain-size", positive=True)
+    check_plausible("grain_size", grain, "--grain-size", args.grain_size)
+    return grain
+
+
+def _water_option(args, rock) -> float | None:
+    """Water fugacity [Pa] or OH content [H/10^6 Si], as the rock's laws take it."""
+    forms = {law.water_form for law in rock.laws if law.needs_water}
+    given = [n for n in ("water_fugacity", "water_content") if getattr(args, n) is not None]
+    if not forms:
+        if given:
+            raise CommandError(
+                f"{_option(given[0])}: rock {rock.id!r} has no explicit water term "
+                "(water is folded into A or absent); leave it out"
+            )
+        return None
+    if len(forms) > 1:  # the library has no such rock; a layer holds one water value
+        raise CommandError(f"--rock: rock {rock.id!r} mixes water forms {sorted(forms)}")
+    if forms == {"fugacity"}:
+        name, other, what, example = (
+            "water_fugacity",
+            "water_content",
+            "water fugacity",
+            '"500 MPa"',
+        )
+    else:
+        name, other, what, example = ("water_content", "water_fugacity", "OH content", "1000")
+    if getattr(args, other) is not None:
+        raise CommandError(
+            f"{_option(other)}: rock {rock.id!r} takes water as its {what}; "
+            f"give {_option(name)} instead"
+        )
+    if getattr(args, name) is None:
+        raise CommandError(
+            f"{_option(name)}: needed by rock {rock.id!r} (its creep depends on the {what}); "
+            f"give e.g. {_option(name)} {example}"
+        )
+    if name == "water_fugacity":
+        return _quantity(args.water_fugacity, "MPa", "--water-fugacity", positive=True)
+    if not (math.isfinite(args.water_content) and args.water_content > 0):
+        raise CommandError(
+            f"--water-content: got {args.water_content!r}; expected an OH content > 0 [H/10^6 Si]"
+        )
+    return args.water_content
+
+
 def _point_at_conditions(args, stress, duration):
     from rheology.answers.point import conditions_answer
     from rheology.library.tables import get_rock
     from rheology.units import to_kelvin
 
+    if args.depth is not None:
+        raise CommandError(
+            "--depth: only with a scenario file; give --temperature and --pressure instead"
+        )
     missing = [f"--{n}" for n in ("rock", "temperature", "pressure") if getattr(args, n) is None]
     if missing:
         raise CommandError(
@@ -337,32 +454,31 @@ def _point_at_conditions(args, stress, duration):
     rate = _strain_rate(args.strain_rate)
     if rate is None:
         raise CommandError("--strain-rate: needed without a scenario, e.g. '1e-15 1/s'")
-    grain = (
-        None
-        if args.grain_size is None
-        else _quantity(args.grain_size, "mm", "--grain-size", positive=True)
-    )
-    water = (
-        None
-        if args.water_fugacity is None
-        else _quantity(args.water_fugacity, "MPa", "--water-fugacity", positive=True)
-    )
+    try:
+        rock = get_rock(args.rock)
+    except RheologyError as exc:
+        raise CommandError(f"--rock: {exc}") from None
+    grain = _grain_size_option(args, rock)
+    water = _water_option(args, rock)
     if _is_bare_number(args.temperature):
         raise CommandError(
             f"--temperature: {args.temperature!r} has no units; give e.g. '{args.temperature} degC'"
         )
-    return conditions_answer(
-        get_rock(args.rock),
-        to_kelvin(args.temperature, "--temperature"),
-        _quantity(args.pressure, "MPa", "--pressure", nonnegative=True),
-        rate,
-        faulting=args.faulting,
-        pore_pressure_ratio=args.pore_pressure_ratio,
-        grain_size=grain,
-        water=water,
-        stress=stress,
-        duration=duration,
-    )
+    with option_names({"pore_pressure_ratio": "--pore-pressure-ratio"}):
+        return conditions_answer(
+            rock,
+            to_kelvin(args.temperature, "--temperature"),
+            _quantity(args.pressure, "MPa", "--pressure", nonnegative=True),
+            rate,
+            faulting=args.faulting or "thrust",
+            pore_pressure_ratio=0.0
+            if args.pore_pressure_ratio is None
+            else args.pore_pressure_ratio,
+            grain_size=grain,
+            water=water,
+            stress=stress,
+            duration=duration,
+        )
 
 
 def _run_point(args, out, err) -> int:
@@ -382,17 +498,14 @@ def _run_point(args, out, err) -> int:
         answer = _point_at_conditions(args, stress, duration)
         title = f"{answer.rock} at given conditions"
     else:
+        _reject_conditions_options(args)
         if args.depth is None:
             raise CommandError("--depth: needed with a scenario, e.g. --depth '12 km'")
-        scenario = read_scenario_file(args.scenario)
+        scenario = _with_overrides(read_scenario_file(args.scenario), args)
         title = scenario.title
-        answer = point_answer(
-            scenario,
-            _quantity(args.depth, "km", "--depth", nonnegative=True),
-            strain_rate=_strain_rate(args.strain_rate),
-            stress=stress,
-            duration=duration,
-        )
+        depth = _quantity(args.depth, "km", "--depth", nonnegative=True)
+        with option_names({"depth": "--depth"}):
+            answer = point_answer(scenario, depth, stress=stress, duration=duration)
     if args.json:
         _write_json(out, point_to_dict(answer))
         return OK
@@ -443,12 +556,23 @@ def _add_rocks(subparsers) -> None:
     parser.set_defaults(handler=_run_rocks)
 
 
+_SYMBOLS = (
+    "(n stress exponent, m grain-size exponent (d^-m), r water exponent; "
+    "p, q shape exponents of low-temperature plasticity)"
+)
+
+
 def _law_line(law) -> str:
+    """The published parameters of ``law`` in one line.
+
+    The grain-size exponent is shown as m (d^-m), so that p and q stay the shape
+    exponents of a Peierls law.
+    """
     from rheology.outputs import law_to_dict
 
     published = law_to_dict(law)["published"]
     text = (
-        f"A = {law.A_published}, n = {law.n:g}, p = {law.grain_size_exponent:g}, "
+        f"A = {law.A_published}, n = {law.n:g}, m = {law.grain_size_exponent:g}, "
         f"r = {law.water_exponent:g} ({published['water']}), Q = {law.Q / 1e3:g} kJ/mol, "
         f"V = {law.V / 1e-6:g} cm^3/mol"
     )
@@ -491,6 +615,7 @@ def _run_rocks(args, out, err) -> int:
             "",
             f"{len(laws)} flow laws (triaxial convention: differential stress, "
             "axial strain rate; A as published):",
+            _SYMBOLS,
         ]
         for law in laws.values():
             lines += [
@@ -535,6 +660,7 @@ def _run_law(args, out, err) -> int:
         "as published (triaxial: differential stress sigma_d = sigma1 - sigma3, "
         "axial strain rate edot_ax):",
         f"  {_law_line(law)}",
+        f"  {_SYMBOLS}",
         "",
         "in SI:",
         f"  A = {law.A:.6g} {si['A_units']}, Q = {law.Q:.6g} J/mol, V = {law.V:.6g} m^3/mol",
@@ -589,6 +715,7 @@ def _run_demo(args, out, err) -> int:
     from rheology.outputs import analysis_to_dict
     from rheology.scenario import bundled_example
 
+    check_figure_path(args.plot)
     path = bundled_example("demo")
     analysis = analyse(read_scenario_file(str(path)))
     written = _save_plot(analysis, args.plot).resolve()
@@ -673,7 +800,7 @@ def build_parser() -> argparse.ArgumentParser:
     """The argument parser with every command of :data:`COMMANDS` registered."""
     from rheology import __version__
 
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="rheology",
         description="Strength envelopes and brittle-ductile transitions of the lithosphere "
         "from cited laboratory flow laws. Screening estimates only.",

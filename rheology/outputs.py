@@ -42,7 +42,9 @@ CONVENTIONS = {
         "effective viscosity eta = tau_II / (2 edot_II) = sigma_d / (3 edot_ax) [Pa s], "
         "with tau_II = sigma_d / sqrt(3) and edot_II = (sqrt(3)/2) edot_ax "
         "(second invariants, tau_II = sqrt(tau_ij tau_ij / 2)), evaluated with the "
-        "envelope strength sigma_d at the scenario strain rate edot_ax"
+        "envelope strength sigma_d at the scenario strain rate edot_ax; null (JSON) or "
+        "empty (CSV) where the envelope strength is zero (e.g. the surface of a "
+        "cohesionless column), since a zero viscosity means nothing there"
     ),
     "pressure": "pressure_MPa is the lithostatic pressure (overburden weight), in MPa",
     "depth_grid": (
@@ -69,6 +71,32 @@ def _finite_or_none(values, counter: list[int]) -> list[float | None]:
     finite = np.isfinite(array)
     counter[0] += int(array.size - np.count_nonzero(finite))
     return [float(v) if ok else None for v, ok in zip(array.tolist(), finite.tolist())]
+
+
+def profile_viscosity(envelope) -> np.ndarray:
+    """Effective viscosity of the envelope [Pa s], NaN where the strength is zero.
+
+    Parameters
+    ----------
+    envelope : rheology.Envelope
+
+    Returns
+    -------
+    numpy.ndarray
+        ``envelope.viscosity``, except NaN at nodes whose envelope strength is not
+        above zero (there sigma_d / (3 edot) = 0, which a numerical model must not take
+        for a viscosity).
+    """
+    strength = np.asarray(envelope.strength, dtype=float)
+    return np.where(strength > 0, envelope.viscosity, np.nan)
+
+
+def _viscosity_or_none(envelope, counter: list[int]) -> list[float | None]:
+    """Viscosities for JSON: None at zero strength (not counted as non-finite) or overflow."""
+    viscosity = profile_viscosity(envelope)
+    undefined = np.isnan(viscosity)
+    values = _finite_or_none(np.where(undefined, 0.0, viscosity), counter)
+    return [None if u else v for v, u in zip(values, undefined.tolist())]
 
 
 def _scalar(value: float, counter: list[int]) -> float | None:
@@ -204,7 +232,7 @@ def analysis_to_dict(analysis) -> dict[str, Any]:
         "ductile_MPa": _finite_or_none(env.ductile / _MPA, nulls),
         "strength_MPa": _finite_or_none(env.strength / _MPA, nulls),
         "mechanism": list(env.mechanism_names),
-        "viscosity_Pa_s": _finite_or_none(env.viscosity, nulls),
+        "viscosity_Pa_s": _viscosity_or_none(env, nulls),
     }
     elastic = analysis.elastic
     result = {
@@ -300,7 +328,8 @@ def profile_frame(analysis):
     -------
     pandas.DataFrame
         Columns :data:`PROFILE_COLUMNS`. Layer boundaries appear twice (once per layer).
-        Non-finite strengths stay as ``inf`` here (a DataFrame can hold them).
+        Non-finite strengths stay as ``inf`` here (a DataFrame can hold them); the
+        viscosity is NaN where the envelope strength is zero (:func:`profile_viscosity`).
     """
     import pandas as pd
 
@@ -320,7 +349,7 @@ def profile_frame(analysis):
                 env.ductile / _MPA,
                 env.strength / _MPA,
                 list(env.mechanism_names),
-                env.viscosity,
+                profile_viscosity(env),
             ),
         )
     )
@@ -337,7 +366,8 @@ def csv_header_comment(analysis) -> str:
         f"# {title} | {scenario.faulting} faulting, strain rate {scenario.strain_rate:.3g} 1/s"
         " | units in column names; stresses are differential stress sigma1-sigma3 "
         "(triaxial convention); layer boundaries appear twice (once per layer); "
-        "viscosity = sigma_d/(3 edot_ax) | " + " ".join(CAUTION.split())
+        "viscosity = sigma_d/(3 edot_ax), empty where the strength is zero | "
+        + " ".join(CAUTION.split())
     )
 
 
@@ -496,7 +526,7 @@ def law_to_dict(law) -> dict[str, Any]:
     else:
         terms = ["A_II", "tau_II^n"]
         if law.grain_size_exponent:
-            terms.append("d^-p")
+            terms.append("d^-m")  # m: grain-size exponent (p, q belong to Peierls laws)
         if law.water_form in ("fugacity", "OH"):
             terms.append("w^r")
         equation = "edot_II = " + " ".join(terms) + " exp(-(Q + P V)/(R T))"

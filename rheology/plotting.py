@@ -51,6 +51,12 @@ MECHANISM_COLOURS = {
 #: at depth) do not squash the figure; those curves run off the edge.
 STRESS_CAP_FACTOR = 1.5
 
+#: The caution in one short line at the foot of the figure (the full text is
+#: rheology.CAUTION and the README's Cautions section).
+FOOTER = "Screening estimate from laboratory flow laws - not for design; see README Cautions"
+#: Height of the panels against the footer line (about 7 pt of the 547 pt figure).
+FOOTER_RATIO = 60.0
+
 _MPA = 1e6
 _KM = 1e3
 _OPPOSITE_SIDE = {"normal": -1.0}
@@ -282,10 +288,13 @@ def strength_figure(analysis, *, companion=None) -> Figure:
     gap = 0.055 * max_depth
 
     figure = Figure(figsize=(11.0, 7.6), layout="constrained")
-    grid = figure.add_gridspec(1, 3, width_ratios=[6.0, 0.35, 2.6])
-    ax_strength = figure.add_subplot(grid[0, 0])
-    ax_strip = figure.add_subplot(grid[0, 1], sharey=ax_strength)
-    ax_temperature = figure.add_subplot(grid[0, 2], sharey=ax_strength)
+    # the panels and their legend above, the caution line alone below
+    panels, footer = figure.subfigures(2, 1, height_ratios=[FOOTER_RATIO, 1.0])
+    footer.text(0.5, 0.5, FOOTER, ha="center", va="center", fontsize=7, color="#777777")
+    grid = panels.add_gridspec(1, 3, width_ratios=[6.0, 0.35, 2.6])
+    ax_strength = panels.add_subplot(grid[0, 0])
+    ax_strip = panels.add_subplot(grid[0, 1], sharey=ax_strength)
+    ax_temperature = panels.add_subplot(grid[0, 2], sharey=ax_strength)
 
     main_sign = _side(scenario.faulting)
     if companion is not None:
@@ -413,7 +422,7 @@ def strength_figure(analysis, *, companion=None) -> Figure:
         if name in present
     ]
     # two rows of legend entries below the panels
-    figure.legend(
+    panels.legend(
         handles=handles,
         loc="outside lower center",
         ncol=(len(handles) + 1) // 2,

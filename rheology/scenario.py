@@ -105,6 +105,7 @@ from rheology.constants import ZERO_CELSIUS
 from rheology.errors import RheologyError, ScenarioError
 from rheology.library.flowlaw import FlowLaw, Rock
 from rheology.physics.friction import REGIMES
+from rheology.plausibility import check_plausible
 from rheology.units import Q_, as_quantity, prefactor_to_si, to_kelvin, to_si
 
 __all__ = [
@@ -318,7 +319,9 @@ class _Table:
             if required:
                 self.missing(key, why, f'"{example}"')
             return default
-        return _read_quantity(self.data[key], self.where(key), unit, example, **sign)
+        value = _read_quantity(self.data[key], self.where(key), unit, example, **sign)
+        check_plausible(key, value, self.where(key), self.data[key])
+        return value
 
     def number(
         self,

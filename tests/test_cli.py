@@ -5,14 +5,19 @@ External references used here:
 * JSON, RFC 8259 (2017) sec. 6 (no NaN/Infinity), parsed with the standard library;
 * PNG signature and IHDR chunk, ISO/IEC 15948:2004 (W3C PNG 2nd ed.) sec. 5.2 and 11.2.2;
 * the triaxial-to-invariant conversion A_II = 0.5 * 3^((n+1)/2) * A and
-  F2 = 2^((1-n)/n) / 3^((n+1)/(2n)) = 0.3029 for n = 3 (standard result, derived in the
-  project's reference notes, section 7.1; Gerya 2019 ch. 6 and Ranalli 1995 from memory);
+  F2 = 2^((1-n)/n) / 3^((n+1)/(2n)) = 0.3029 for n = 3 (standard result; Gerya 2019
+  ch. 6 and Ranalli 1995, from memory), worked by hand: with tau_II = sigma_d/sqrt(3)
+  and edot_II = (sqrt(3)/2) edot_ax, the law edot_ax = A sigma_d^n becomes
+  edot_II = (sqrt(3)/2) A (sqrt(3) tau_II)^n = 0.5 * 3^((n+1)/2) A tau_II^n; then
+  eta = tau_II / (2 edot_II) = 0.5 A_II^(-1/n) edot_II^((1-n)/n)
+  = F2 A^(-1/n) edot_II^((1-n)/n), so F2 = 0.5 * 2^(1/n) / 3^((n+1)/(2n));
 * the Maxwell time t_M = eta / G (Turcotte & Schubert 2002, *Geodynamics*, 2nd ed.,
   sec. 7.10, from memory) for the direction of the point command's verdicts;
 * Byerlee (1978) friction for the "breaks" case (a load far above the frictional
   strength of the demo column at 12 km).
 """
 
+import argparse
 import json
 import math
 import os
@@ -21,6 +26,7 @@ import re
 import struct
 import subprocess
 import sys
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -256,6 +262,22 @@ def test_bad_scenario_file_gives_one_error_line_and_exit_2(capsys, tmp_path, cas
     assert re.search(expected, err), err
 
 
+def test_implausible_values_are_one_warning_line_each(capsys, tmp_path):
+    """Ranges of rheology/plausibility.py (common practice); the run still completes."""
+    path = tmp_path / "slip.toml"
+    text = _demo_text().replace('density = "2700 kg/m^3"', 'density = "2.7 kg/m^3"')
+    assert text != _demo_text()
+    path.write_text(text, encoding="utf-8")
+    code, out, err = run(capsys, "envelope", path, "--strain-rate", "1e-40")
+    assert code == 0 and out
+    assert err.splitlines() == [
+        "warning: layers[0].density: 2.7 kg/m^3 is far below rock densities "
+        "(1000-4500 kg/m^3); was it g/cm^3?",
+        "warning: --strain-rate: 1e-40 is far below geological and laboratory strain rates "
+        "(1e-20 to 1e-2 1/s)",
+    ]
+
+
 def test_missing_file_is_an_error_line(capsys, tmp_path):
     missing = tmp_path / "SCENARIO.toml"
     code, out, err = run(capsys, "envelope", missing)
@@ -263,11 +285,57 @@ def test_missing_file_is_an_error_line(capsys, tmp_path):
     assert err == f"error: {missing}: no such file\n"
 
 
-def test_usage_errors_exit_2_as_argparse_does(capsys):
-    for argv in (["envelope"], ["nonsense"], ["envelope", DEMO, "--faulting", "sideways"], []):
-        code, out, err = run(capsys, *argv)
-        assert code == 2
-        assert "usage:" in err
+USAGE_ERRORS = {
+    "missing scenario": (["envelope"], "envelope", r"required: SCENARIO\.toml"),
+    "unknown command": (["nonsense"], "", r"invalid choice: 'nonsense'"),
+    "bad choice": (
+        ["envelope", DEMO, "--faulting", "sideways"],
+        "envelope",
+        r"argument --faulting: invalid choice: 'sideways'",
+    ),
+    "no command": ([], "", r"required: COMMAND"),
+    "bad number in a subcommand of rheology.uncertainty": (
+        ["uncertainty", DEMO, "--samples", "many"],
+        "uncertainty",
+        r"argument --samples: 'many' is not a whole number",
+    ),
+    "fraction where a whole number is expected": (
+        ["sites", "s.csv", "--scenario", DEMO, "--out", "o.csv", "--chunk", "1.5"],
+        "sites",
+        r"argument --chunk: '1\.5' is not a whole number",
+    ),
+}
+
+
+@pytest.mark.parametrize("case", sorted(USAGE_ERRORS))
+def test_usage_errors_are_one_error_line_and_exit_2(capsys, case):
+    """No usage block: one `error:` line, then one line pointing to --help."""
+    argv, command, expected = USAGE_ERRORS[case]
+    code, out, err = run(capsys, *argv)
+    assert code == 2 and out == ""
+    first, second = err.splitlines()
+    assert first.startswith("error: ") and re.search(expected, first), err
+    assert second == f"try '{' '.join(['rheology', command]).strip()} --help'"
+    assert "usage:" not in err
+
+
+def test_api_checks_are_reported_with_the_option_names(capsys):
+    """The Monte Carlo API says 'samples: ...'; the command line says '--samples: ...'."""
+    code, _, err = run(capsys, "uncertainty", DEMO, "--samples", "1")
+    assert code == 2 and err == "error: --samples: got 1; expected a whole number >= 2\n"
+    code, _, err = run(capsys, "uncertainty", DEMO, "--samples", "2", "--workers", "0")
+    assert code == 2 and err.startswith("error: --workers: got 0;")
+
+
+def test_whole_numbers_may_be_written_in_float_notation():
+    from rheology.textout import whole_number
+
+    assert whole_number("1000") == 1000
+    assert whole_number("1e3") == 1000 and isinstance(whole_number("1e3"), int)
+    assert whole_number("1.5e3") == 1500
+    for text in ("1.5", "1e-3", "nan", "inf", "1e400", "ten"):
+        with pytest.raises(argparse.ArgumentTypeError, match=f"{re.escape(repr(text))} is not"):
+            whole_number(text)
 
 
 def test_help_exits_0(capsys):
@@ -292,6 +360,31 @@ def test_unexpected_exception_is_an_internal_error_without_traceback(capsys, mon
     code, out, err = run(capsys, "envelope", DEMO)
     assert code == 1
     assert err == "internal error: ZeroDivisionError: simulated fault (please report it)\n"
+
+
+@pytest.mark.parametrize(
+    "argv",
+    [
+        ["envelope", DEMO],
+        ["envelope", DEMO, "--both-regimes"],
+        ["demo"],
+        ["uncertainty", DEMO, "--samples", "2", "--seed", "1"],
+    ],
+)
+def test_unknown_figure_format_is_an_error_line_before_any_work(capsys, tmp_path, argv):
+    target = tmp_path / "figure.xyz"
+    code, out, err = run(capsys, *argv, "--plot", target)
+    assert code == 2 and out == ""
+    assert err.startswith(f"error: --plot: '{target}': '.xyz' is not a figure format")
+    assert "png" in err and "svg" in err and err.count("\n") == 1
+    assert not target.exists()
+
+
+def test_figure_format_is_recognised_whatever_the_case_of_the_suffix(capsys, tmp_path):
+    path = tmp_path / "envelope.PNG"
+    code, _, err = run(capsys, "envelope", DEMO, "--plot", path)
+    assert code == 0, err
+    assert path.read_bytes()[:8] == PNG_SIGNATURE
 
 
 def test_unwritable_output_is_an_error_line(capsys, tmp_path):
@@ -357,9 +450,131 @@ def test_point_needs_both_stress_and_duration(capsys):
     assert code == 2 and "--stress and --duration" in err
 
 
-def test_point_depth_outside_the_column(capsys):
+def test_point_depth_outside_the_column_is_reported_in_km(capsys):
     code, _, err = run(capsys, "point", DEMO, "--depth", "500 km")
-    assert code == 2 and err.startswith("error: depth:")
+    max_km = rheology.load_scenario(DEMO).max_depth / 1e3
+    assert code == 2
+    assert err == f"error: --depth: 500 km is outside the column; expected 0 to {max_km:g} km\n"
+
+
+@pytest.mark.parametrize(
+    "option, value",
+    [
+        ("--rock", "olivine-wet"),
+        ("--temperature", "450 degC"),
+        ("--pressure", "300 MPa"),
+        ("--pore-pressure-ratio", "0.4"),
+        ("--grain-size", "1 mm"),
+        ("--water-fugacity", "500 MPa"),
+        ("--water-content", "1000"),
+    ],
+)
+def test_point_with_a_scenario_rejects_the_options_for_given_conditions(capsys, option, value):
+    """These options used to be ignored silently when a scenario file was given."""
+    code, out, err = run(capsys, "point", DEMO, "--depth", "12 km", option, value)
+    assert code == 2 and out == ""
+    assert err.startswith(f"error: {option}: only without a scenario file; ")
+    assert err.count("\n") == 1
+
+
+def test_point_faulting_replaces_the_regime_of_the_scenario(capsys):
+    """Normal faulting needs less differential stress than thrusting at the same depth
+    (Sibson 1974, Nature 249, 542-544: Andersonian stress ratios), so --faulting must
+    reach the answer rather than being ignored."""
+    scenario = rheology.load_scenario(DEMO)
+    assert scenario.faulting == "thrust"
+    brittle = {}
+    for regime in ("thrust", "normal"):
+        code, out, err = run(
+            capsys, "point", DEMO, "--depth", "5 km", "--faulting", regime, "--json"
+        )
+        assert code == 0, err
+        brittle[regime] = _strict_json(out)["brittle_MPa"]
+        expected = rheology.point_answer(replace(scenario, faulting=regime), 5e3).brittle
+        assert brittle[regime] == pytest.approx(expected / 1e6, rel=1e-12)  # rounding only
+    assert brittle["normal"] < brittle["thrust"]
+
+
+CONDITIONS = ("--temperature", "900 degC", "--pressure", "1 GPa", "--strain-rate", "1e-15")
+
+
+@pytest.mark.parametrize(
+    "extra, expected",
+    [
+        (
+            ["--rock", "olivine-wet"],
+            "error: --grain-size: needed by rock 'olivine-wet' (diffusion creep depends on "
+            'grain size); give e.g. --grain-size "1 mm"',
+        ),
+        (
+            ["--rock", "olivine-wet", "--grain-size", "1 mm"],
+            "error: --water-fugacity: needed by rock 'olivine-wet' (its creep depends on the "
+            'water fugacity); give e.g. --water-fugacity "500 MPa"',
+        ),
+        (
+            ["--rock", "olivine-wet-coh", "--grain-size", "1 mm"],
+            "error: --water-content: needed by rock 'olivine-wet-coh' (its creep depends on "
+            "the OH content); give e.g. --water-content 1000",
+        ),
+        (
+            ["--rock", "olivine-wet-coh", "--grain-size", "1 mm", "--water-fugacity", "1 GPa"],
+            "error: --water-fugacity: rock 'olivine-wet-coh' takes water as its OH content; "
+            "give --water-content instead",
+        ),
+        (
+            ["--rock", "quartzite-wet", "--grain-size", "1 mm"],
+            "error: --grain-size: rock 'quartzite-wet' has no grain-size-sensitive law; "
+            "leave it out",
+        ),
+        (
+            ["--rock", "olivine-dry", "--water-content", "1000"],
+            "error: --water-content: rock 'olivine-dry' has no explicit water term",
+        ),
+        (
+            ["--rock", "quartzite-wet", "--pore-pressure-ratio", "1.5"],
+            "error: --pore-pressure-ratio: got 1.5; expected a number from 0 (dry) up to, "
+            "not including, 1 (lithostatic)",
+        ),
+        (["--rock", "cheese"], "error: --rock: unknown rock 'cheese'"),
+        (
+            ["--rock", "quartzite-wet", "--depth", "3 km"],
+            "error: --depth: only with a scenario file",
+        ),
+    ],
+)
+def test_point_at_conditions_names_the_option_to_give(capsys, extra, expected):
+    code, out, err = run(capsys, "point", *CONDITIONS, *extra)
+    assert code == 2 and out == ""
+    assert err.startswith(expected) and err.count("\n") == 1, err
+
+
+def test_point_at_conditions_takes_an_oh_content(capsys):
+    """The OH-content form of a wet olivine law (C_OH in H/10^6 Si) is reachable from the
+    command line, and the answer is the API's."""
+    from rheology.answers.point import conditions_answer
+
+    code, out, err = run(
+        capsys,
+        "point",
+        *CONDITIONS,
+        "--rock",
+        "olivine-wet-coh",
+        "--grain-size",
+        "1 mm",
+        "--water-content",
+        "1000",
+        "--json",
+    )
+    assert code == 0, err
+    expected = conditions_answer(
+        rheology.get_rock("olivine-wet-coh"),
+        1173.15,
+        1e9,
+        1e-15,
+        grain_size=1e-3,
+        water=1000.0,
+    )
+    assert _strict_json(out)["ductile_MPa"] == pytest.approx(expected.ductile / 1e6, rel=1e-9)
 
 
 # ---------------------------------------------------------------------- rocks, law
@@ -387,9 +602,33 @@ def test_rocks_text_lists_ids_and_laws(capsys):
         assert law.id in out and law.A_published in out
 
 
+def _published_line(out, law_id):
+    lines = out.splitlines()
+    index = next(i for i, line in enumerate(lines) if line.startswith(law_id))
+    return lines[index + 1]
+
+
+def test_grain_size_exponent_is_m_and_peierls_exponents_are_p_q(capsys):
+    """One symbol per quantity: d^-m for grain size, p and q only for the shape of a
+    Peierls law (a format check; the values shown are those of the reference tables)."""
+    code, out, _ = run(capsys, "rocks", "--laws")
+    assert code == 0
+    peierls = _published_line(out, "ol-peierls-mei10")
+    law = rheology.get_flow_law("ol-peierls-mei10")
+    assert f", m = {law.grain_size_exponent:g}," in peierls
+    assert f"p = {law.peierls_p:g}, q = {law.peierls_q:g}" in peierls
+    assert peierls.count("p = ") == 1
+    diffusion = _published_line(out, "an-wet-diff-rd00")
+    exponent = rheology.get_flow_law("an-wet-diff-rd00").grain_size_exponent
+    assert exponent > 0 and f", m = {exponent:g}," in diffusion and "p = " not in diffusion
+    code, out, _ = run(capsys, "law", "an-wet-diff-rd00")
+    assert "d^-m" in out and "d^-p" not in out
+    assert "m grain-size exponent (d^-m)" in out
+
+
 def test_law_invariant_prefactor_follows_the_second_invariant_conversion(capsys):
-    """A_II = 0.5 * 3^((n+1)/2) * A and F2 = 0.3029 for n = 3 (standard conversion;
-    derived in the reference notes sec. 7.1; Gerya 2019 ch. 6, from memory)."""
+    """A_II = 0.5 * 3^((n+1)/2) * A and F2 = 0.3029 for n = 3 (standard conversion, worked
+    by hand in the module docstring; Gerya 2019 ch. 6, from memory)."""
     law = rheology.get_flow_law("an-wet-disl-rd00")
     assert law.n == 3.0
     code, out, err = run(capsys, "law", law.id, "--json")
@@ -408,6 +647,7 @@ def test_law_invariant_prefactor_follows_the_second_invariant_conversion(capsys)
 def test_law_unknown_id_is_an_error_line(capsys):
     code, _, err = run(capsys, "law", "qtz-wet-gt59")
     assert code == 2 and err.startswith("error: unknown flow law 'qtz-wet-gt59'")
+    assert "`rheology rocks --laws`" in err and err.count("\n") == 1
 
 
 # --------------------------------------------------------------------- demo, app
@@ -469,7 +709,7 @@ def test_command_line_helpers_raise_named_errors(tmp_path):
     with pytest.raises(rheology.RheologyError, match=r"--strain-rate: .*must be greater than"):
         cli._strain_rate("-1e-15 1/s")
     analysis = rheology.analyse(rheology.load_scenario(DEMO))
-    with pytest.raises(cli.CommandError, match=r"--plot: 'figure' has no file suffix"):
+    with pytest.raises(rheology.RheologyError, match=r"--plot: 'figure' has no file suffix"):
         cli._save_plot(analysis, "figure")
 
 

@@ -26,8 +26,10 @@ def _needs(law):
 
 def test_power_law_stress_inverts_rate_brace_kohlstedt_1980():
     """sigma = (edot/A)^(1/n) exp((Q+PV)/(nRT)) (Brace & Kohlstedt 1980), worked by hand for
-    Gleason & Tullis (1995) at 400 degC and 1e-15 1/s: 36.8 MPa (REFERENCES check 8, from
-    memory parameters; the arithmetic here is independent)."""
+    Gleason & Tullis (1995, Tectonophysics 247) wet quartzite, A = 1.1e-4 MPa^-4 s^-1,
+    n = 4, Q = 223 kJ/mol (parameters from memory), at 400 degC and 1e-15 1/s:
+    (1e-15/1.1e-4)^(1/4) x exp(223e3 / (4 x 8.314 x 673.15)) = 1.736e-3 x 2.119e4
+    = 36.8 MPa (derived here, not a published number)."""
     A, n, Q = GT95
     T = 400 + C
     by_hand = (1e-15 / A) ** (1 / n) * np.exp(Q / (n * GAS_CONSTANT * T))
@@ -37,9 +39,11 @@ def test_power_law_stress_inverts_rate_brace_kohlstedt_1980():
 
 
 def test_activation_volume_raises_strength_hirth_kohlstedt_2003():
-    """Hirth & Kohlstedt (2003) dry olivine (1.1e5 MPa^-3.5 s^-1, 3.5, 530 kJ/mol) at 800 degC,
-    1e-15 1/s: 44.1 MPa at P = 0 and 78.5 MPa with P = 1 GPa, V = 18 cm^3/mol (REFERENCES
-    check 8; parameters from memory, values derived)."""
+    """Hirth & Kohlstedt (2003), Table 1, dry olivine (1.1e5 MPa^-3.5 s^-1, 3.5, 530 kJ/mol;
+    parameters from memory) at 800 degC, 1e-15 1/s: 44.1 MPa at P = 0 and 78.5 MPa with
+    P = 1 GPa, V = 18 cm^3/mol, worked by hand from sigma = (edot/A)^(1/n)
+    exp((Q+PV)/(nRT)); the PV term multiplies the stress by exp(18e3/(3.5 x 8.314 x
+    1073.15)) = 1.78 (derived values, not published numbers)."""
     A = 1.1e5 * (1e6) ** -3.5
     T = 800 + C
     assert creep.power_law_stress(1e-15, T, 0.0, A, 3.5, 530e3) / MPA == pytest.approx(
@@ -51,8 +55,10 @@ def test_activation_volume_raises_strength_hirth_kohlstedt_2003():
 
 
 def test_evans_goetze_1979_peierls_closed_form_and_solver():
-    """Evans & Goetze (1979), JGR 84: edot = 1.3e12 exp{-(60e3/T)[1 - sigma/9.1 GPa]^2};
-    at 1e-15 1/s: 426 MPa at 600 degC and 1484 MPa at 400 degC (REFERENCES check 9, verified)."""
+    """Evans & Goetze (1979), JGR 84(B10), 5505-5524: edot = 1.3e12 exp{-(60e3/T)
+    [1 - sigma/9.1 GPa]^2} (the law verified against the paper's abstract). At 1e-15 1/s
+    its inverse sigma = 9.1 GPa [1 - sqrt(T ln(1.3e12/edot) / 60e3)] gives, worked by hand,
+    426 MPa at 600 degC and 1484 MPa at 400 degC (derived, not published numbers)."""
     Q = 60e3 * GAS_CONSTANT
     for t_c, expected in ((600, 426), (400, 1484)):
         closed = creep.peierls_stress_goetze(1e-15, t_c + C, 0.0, 1.3e12, Q, 0.0, 9.1e9)
@@ -63,9 +69,11 @@ def test_evans_goetze_1979_peierls_closed_form_and_solver():
 
 
 def test_mei_2010_peierls_round_trip():
-    """Mei et al. (2010), JGR 115: edot = A sigma^2 exp[-(E/RT)(1 - (sigma/sP)^(1/2))]; the
-    stress from the solver reproduces the rate (round trip), and 504 MPa at 600 degC
-    (REFERENCES sec. 11 item 3, parameters from memory)."""
+    """Mei et al. (2010), JGR 115, B08204: edot = A sigma^2 exp[-(E/RT)(1 - (sigma/sP)^(1/2))]
+    with A = 1.4e-7 MPa^-2 s^-1, E = 320 kJ/mol, sP = 5.9 GPa (parameters from memory); the
+    stress from the solver reproduces the rate (round trip), and 504 MPa at 600 degC and
+    1e-15 1/s, a root of the law found by bisection outside this package (derived, not a
+    published number)."""
     args = (1.4e-19, 2.0, 320e3, 0.0, 5.9e9, 0.5, 1.0)
     term = creep.CreepTerm.peierls(*args)
     T = np.array([400.0, 600.0, 800.0]) + C

@@ -141,8 +141,10 @@ def test_gleason_tullis_crossovers_regression(
 ):
     """Gleason & Tullis (1995) wet quartzite (parameters from memory), 10 degC + 25 K/km,
     rho = 2700, 1e-15 1/s, cohesionless Byerlee with the minimum rule: crossover depth,
-    temperature, stress and 0-40 km integrated strength as DERIVED in the project's
-    reference notes (a regression check, computed independently of this code)."""
+    temperature, stress and 0-40 km integrated strength: regression values of our own,
+    computed outside this package by solving Byerlee (1978) friction = Gleason & Tullis
+    (1995) creep on the Andersonian stress path and integrating by the trapezoid rule on a
+    10 m grid (derived, not published numbers)."""
     analysis = analyse(
         one_layer(get_flow_law("qtz-wet-gt95"), regime=regime, ratio=ratio, step=10.0)
     )

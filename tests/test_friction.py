@@ -21,9 +21,10 @@ def test_byerlee_1978_branches_and_continuity_at_200_mpa():
     assert abs(left - right) < 1.0
 
 
-def test_stress_ratio_jaeger_cook_sibson_1974():
-    """(sqrt(1+mu^2)+mu)^2 is about 3.1 for mu = 0.6 (Jaeger & Cook; Sibson 1974), and equals
-    the Mohr-Coulomb ratio (1 + sin phi)/(1 - sin phi) with phi = arctan mu (Jaeger et al. 2007)."""
+def test_stress_ratio_jaeger_cook_zimmerman_2007_sibson_1974():
+    """(sqrt(1+mu^2)+mu)^2 is about 3.1 for mu = 0.6 (Jaeger, Cook & Zimmerman 2007,
+    Fundamentals of Rock Mechanics, 4th ed.; Sibson 1974), and equals the Mohr-Coulomb
+    ratio (1 + sin phi)/(1 - sin phi) with phi = arctan mu (Jaeger et al. 2007)."""
     assert friction.friction_ratio(0.6) == pytest.approx(3.12, abs=0.01)
     mu = np.linspace(0.1, 1.2, 12)
     phi = np.arctan(mu)

@@ -196,10 +196,10 @@ def test_exponential_heat_worked_example_turcotte_schubert_2002():
     np.testing.assert_allclose(p.heat_flow[:3] / MW, [65.0, 49.197, 41.245], atol=HAND_Q / MW)
 
 
-def test_layered_steady_textbook_three_layer_example():
-    """Textbook three-layer exercise (problem statement checked): q0 = 46 mW/m^2, T0 = 0 degC;
+def test_layered_steady_three_layer_example_worked_by_hand():
+    """A three-layer example of our own, worked by hand: q0 = 46 mW/m^2, T0 = 0 degC;
     0-10 km H = 2.1 uW/m^3, k = 2.51; 10-40 km H = 0.26, k = 2.51; 40-100 km H = 0, k = 3.35.
-    The answers are our own hand working of T = T_i + q_i dz/k - H dz^2/(2k), step by step."""
+    Within each layer T = T_i + q_i dz/k - H dz^2/(2k) and q = q_i - H dz, step by step."""
     z = np.array([0.0, 10.0, 40.0, 100.0]) * KM
     p = layered_steady(
         z,
@@ -220,7 +220,7 @@ def test_layered_steady_textbook_three_layer_example():
     assert celsius[2] == pytest.approx(393.625, abs=HAND_T)
     # layer 3: T = 393.625 + 17.2e-3 * 6e4 / 3.35 = 393.625 + 308.060 = 701.685 degC
     assert celsius[3] == pytest.approx(701.685, abs=HAND_T)
-    # the rounded check values 141.4 / 393.6 / 701.7 degC and 25.0 / 17.2 mW/m^2
+    # the same hand values rounded to 0.1: 141.4 / 393.6 / 701.7 degC, 25.0 / 17.2 mW/m^2
     np.testing.assert_allclose(celsius[1:], [141.4, 393.6, 701.7], atol=HALF_LAST_DIGIT_T)
     np.testing.assert_allclose(p.heat_flow[1:3], [25.0 * MW, 17.2 * MW], atol=HALF_LAST_DIGIT_Q)
 

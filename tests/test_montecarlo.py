@@ -141,8 +141,8 @@ def test_batch_crossover_of_gleason_tullis_quartzite_matches_reference_table():
     """Brittle-ductile crossover of Gleason & Tullis (1995) wet quartzite (1.1e-4 MPa^-4
     s^-1, n = 4, Q = 223 kJ/mol, from memory) under Byerlee (1978) friction, thrust
     faulting, linear geotherm 10 degC + 25 K/km, rho = 2700 kg/m^3, 1e-15 1/s: 9.44 km
-    (246 degC) dry and 9.92 km (258 degC) at lambda = 0.37. Derived values (independent
-    arithmetic of the project's reference notes, not published) quoted to 0.01 km."""
+    (246 degC) dry and 9.92 km (258 degC) at lambda = 0.37. Regression values of our own,
+    computed outside this package (derived, not published) and quoted to 0.01 km."""
     scenario = rheology.scenario_from_mapping(
         {
             "title": "crossover check",
@@ -336,7 +336,9 @@ def test_transition_spread_follows_first_order_error_propagation(coarse):
 
 def test_wider_heat_flow_spread_widens_the_transition_spread(coarse):
     """Tripling the heat-flow sd (2 -> 6 mW/m^2) widens P90 - P10 of the transition depth
-    about threefold to first order; more than twofold is required (non-linearity)."""
+    about threefold to first order (first-order propagation, the spread scales with sd_q;
+    Taylor 1997, An Introduction to Error Analysis, eq. 3.23, from memory); more than
+    twofold is required (non-linearity)."""
     narrow = run_monte_carlo(
         coarse,
         SpreadSpec(heat_flow_sd=2 * MW, law_spread=False),

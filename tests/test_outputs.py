@@ -7,10 +7,14 @@ External references used here:
   1 mW = 1e-3 W;
 * JSON, RFC 8259 (2017), section 6: NaN and Infinity are not permitted number values;
 * CSV, RFC 4180 (2005), section 2: fields in double quotes may contain any character;
-* the triaxial viscosity convention eta = sigma_d / (3 edot_ax) (tau_II = sigma_d/sqrt(3),
-  edot_II = (sqrt(3)/2) edot_ax), the standard conversion of a triaxial law to second
-  invariants (Gerya 2019, *Introduction to Numerical Geodynamic Modelling*, ch. 6, from
-  memory; derived in the project's reference notes, section 7.1).
+* the triaxial viscosity convention eta = sigma_d / (3 edot_ax), the standard conversion
+  of a triaxial law to second invariants (Gerya 2019, *Introduction to Numerical
+  Geodynamic Modelling*, ch. 6, and Ranalli 1995, both from memory), worked by hand:
+  with tau_II = sigma_d/sqrt(3) and edot_II = (sqrt(3)/2) edot_ax,
+  eta = tau_II / (2 edot_II) = sigma_d / (3 edot_ax); the law edot_ax = A sigma_d^n
+  becomes edot_II = 0.5 * 3^((n+1)/2) A tau_II^n = A_II tau_II^n, so
+  eta = 0.5 A_II^(-1/n) edot_II^((1-n)/n) = F2 A^(-1/n) edot_II^((1-n)/n) with
+  F2 = 2^((1-n)/n) / 3^((n+1)/(2n)) (0.3029 for n = 3, 1/3 for n = 1).
 """
 
 import dataclasses
@@ -119,12 +123,39 @@ def test_viscosity_follows_the_triaxial_convention(demo, demo_dict):
     rate = demo_dict["strain_rate_per_s"]
     tau_ii = strength_pa / math.sqrt(3.0)
     edot_ii = math.sqrt(3.0) / 2.0 * rate
+    viscosity = demo_dict["profile"]["viscosity_Pa_s"]
+    strong = strength_pa > 0
     # the MPa round trip (x 1e-6 then x 1e6) costs a few ulp
     np.testing.assert_allclose(
-        demo_dict["profile"]["viscosity_Pa_s"], tau_ii / (2 * edot_ii), rtol=1e-12
+        np.array(viscosity, dtype=object)[strong].astype(float),
+        (tau_ii / (2 * edot_ii))[strong],
+        rtol=1e-12,
     )
     text = demo_dict["conventions"]["viscosity"]
     assert "tau_II / (2 edot_II)" in text and "sigma_d / (3 edot_ax)" in text
+
+
+def test_viscosity_is_null_where_the_strength_is_zero(demo, demo_dict, tmp_path):
+    """A zero viscosity (zero strength at the surface of a cohesionless column, Byerlee
+    1978 with no cohesion) would be taken at face value by a numerical model: it is
+    written as null in JSON and left empty in CSV, and the conventions say so."""
+    strength = demo_dict["profile"]["strength_MPa"]
+    viscosity = demo_dict["profile"]["viscosity_Pa_s"]
+    weak = [i for i, value in enumerate(strength) if value == 0.0]
+    assert weak and weak[0] == 0  # the demo's surface node
+    assert all(viscosity[i] is None for i in weak)
+    assert all(v is None or v > 0 for v in viscosity)
+    assert (
+        "null (JSON) or empty (CSV) where the envelope strength is zero"
+        in (demo_dict["conventions"]["viscosity"])
+    )
+    assert demo_dict["notes"][0].endswith("This object has 0 such value(s).")
+    path = tmp_path / "profile.csv"
+    outputs.write_profile_csv(demo, path)
+    frame = pd.read_csv(path, comment="#")
+    column = frame["effective viscosity [Pa s]"]
+    assert column.isna().tolist() == [value is None for value in viscosity]
+    assert "empty where the strength is zero" in path.read_text(encoding="utf-8").splitlines()[0]
 
 
 def test_json_is_standard_json_without_nan_or_infinity(demo):
@@ -207,11 +238,10 @@ def test_csv_reads_back_with_pandas_and_matches_the_json(demo, demo_dict, tmp_pa
         "effective viscosity [Pa s]": "viscosity_Pa_s",
     }
     for column, key in pairs.items():
+        expected = [math.nan if value is None else value for value in profile[key]]
         # pandas writes repr() of each float and its default parser reads it back
-        # correctly rounded: allow one ulp
-        np.testing.assert_allclose(
-            frame[column].to_numpy(), profile[key], rtol=2e-16, err_msg=column
-        )
+        # correctly rounded: allow one ulp (a JSON null is an empty CSV cell, NaN here)
+        np.testing.assert_allclose(frame[column].to_numpy(), expected, rtol=2e-16, err_msg=column)
     assert frame["mechanism"].tolist() == profile["mechanism"]
 
 
@@ -264,7 +294,7 @@ def test_point_to_dict_is_json_safe_and_converted(demo):
 def test_law_invariant_form_matches_the_second_invariant_conversion(law_id, n, f2):
     """A_II = 0.5 * 3^((n+1)/2) * A and F2 = 0.3029 (n = 3), 0.3008 (3.5), 0.2992 (4),
     1/3 (n = 1, Trouton): standard triaxial-to-invariant conversion (Gerya 2019 ch. 6 and
-    Ranalli 1995, both from memory; derived in the project's reference notes, 7.1)."""
+    Ranalli 1995, both from memory), worked by hand in the module docstring."""
     law = rheology.get_flow_law(law_id)
     assert law.n == n
     data = outputs.law_to_dict(law)

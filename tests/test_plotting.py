@@ -77,6 +77,27 @@ def test_transitions_and_layers_are_labelled(figure, demo):
     assert "stress axis ends at" in texts  # the cap is stated on the figure
 
 
+@pytest.mark.parametrize("with_companion", [False, True])
+def test_figure_carries_the_caution_in_a_footer_line(scenario, demo, with_companion):
+    """Saved figures travel without the report, so the figure itself says it is a
+    screening estimate (the project's caution rule)."""
+    from matplotlib.legend import Legend
+    from matplotlib.text import Text
+
+    companion = rheology.analyse(scenario, faulting="normal") if with_companion else None
+    fig = plotting.strength_figure(demo, companion=companion)
+    texts = [t for t in fig.findobj(Text) if t.get_text() == plotting.FOOTER]
+    assert len(texts) == 1
+    assert "not for design" in plotting.FOOTER and "Screening estimate" in plotting.FOOTER
+    # below every panel and the legend, overlapping neither (figure pixels, y up)
+    fig.canvas.draw()
+    footer_top = texts[0].get_window_extent().y1
+    legends = fig.findobj(Legend)
+    assert len(legends) == 1
+    for artist in [*fig.axes, *legends]:
+        assert footer_top < artist.get_window_extent().y0
+
+
 def test_stress_axis_is_capped_at_a_multiple_of_the_peak_envelope_strength(figure, demo):
     """Common practice of our own: cap at 1.5 x the peak envelope strength."""
     left, right = figure.axes[0].get_xlim()

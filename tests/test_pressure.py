@@ -28,9 +28,9 @@ def test_uniform_density_is_rho_g_z():
     )
 
 
-def test_overburden_at_3_km_reference_check_value():
-    """rho = 2700 kg/m^3, g = 9.81, z = 3 km: sigma_v = 79.46 MPa (reference check value 5,
-    worked by hand: 2700 * 9.81 * 3000 = 79.461 MPa)."""
+def test_overburden_at_3_km_worked_by_hand():
+    """rho = 2700 kg/m^3, g = 9.81, z = 3 km: sigma_v = rho g z (the definition of
+    overburden pressure), worked by hand here: 2700 * 9.81 * 3000 = 79.461 MPa."""
     sigma_v = lithostatic_pressure(np.array([3e3]), [35e3], [2700.0])[0]
     assert sigma_v / MPA == pytest.approx(79.46, abs=0.005)  # quoted to 0.01 MPa
 

@@ -17,13 +17,14 @@ from __future__ import annotations
 import copy
 import dataclasses
 import math
+import warnings
 
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from rheology import model
-from rheology.errors import RheologyError, ScenarioError
+from rheology.errors import RheologyError, RheologyWarning, ScenarioError
 from rheology.library.flowlaw import FlowLaw, Rock
 from rheology.library.tables import get_flow_law, get_rock, get_rock_properties
 from rheology.scenario import (
@@ -336,6 +337,9 @@ def _positive_floats(low, high):
     return st.floats(min_value=low, max_value=high, allow_nan=False, allow_infinity=False)
 
 
+# the drawn values run far outside plausible ranges on purpose (a surface at 1 K...):
+# the plausibility warnings are expected there and are tested below
+@pytest.mark.filterwarnings("ignore::rheology.errors.RheologyWarning")
 @settings(max_examples=60, deadline=None)
 @given(
     thickness=_positive_floats(1.0, 1e6),
@@ -360,6 +364,95 @@ def test_round_trip_of_arbitrary_values(thickness, heat_flow, temperature, strai
         pore_pressure=model.PorePressure(kind="ratio", ratio=ratio),
     )
     assert_same(varied, parse_scenario(dump_scenario(varied)))
+
+
+# ------------------------------------------------------- plausibility warnings
+
+
+IMPLAUSIBLE = {
+    # field path, value typed, message expected (ranges: common practice, see
+    # rheology/plausibility.py)
+    "density in g/cm^3 typed as kg/m^3": (
+        ("layers", 0, "density"),
+        "2.7 kg/m^3",
+        r"layers\[0\]\.density: 2\.7 kg/m\^3 is far below rock densities "
+        r"\(1000-4500 kg/m\^3\); was it g/cm\^3\?",
+    ),
+    "strain rate far too fast": (
+        ("strain_rate",),
+        "1e300 1/s",
+        r"strain_rate: 1e300 1/s is far above geological and laboratory strain rates",
+    ),
+    "strain rate far too slow": (
+        ("strain_rate",),
+        "1e-40 1/s",
+        r"strain_rate: 1e-40 1/s is far below",
+    ),
+    "grain size in metres": (
+        ("layers", 2, "grain_size"),
+        "5 m",
+        r"layers\[2\]\.grain_size: 5 m is far above rock grain sizes \(1 um to 100 mm\); "
+        r"was it mm or um\?",
+    ),
+    "grain size far too small": (
+        ("layers", 2, "grain_size"),
+        "5e-9 mm",
+        r"layers\[2\]\.grain_size: 5e-9 mm is far below rock grain sizes",
+    ),
+    "surface in a furnace": (
+        ("geotherm", "surface_temperature"),
+        "5000 degC",
+        r"geotherm\.surface_temperature: 5000 degC is far above surface temperatures "
+        r"\(-60 to 100 degC\); was it K rather than degC\?",
+    ),
+    "surface near absolute zero": (
+        ("geotherm", "surface_temperature"),
+        "10 K",
+        r"geotherm\.surface_temperature: 10 K is far below surface temperatures "
+        r"\(-60 to 100 degC\); was it degC rather than K\?",
+    ),
+}
+
+
+def _set(mapping, path, value):
+    target = mapping
+    for key in path[:-1]:
+        target = target[key]
+    target[path[-1]] = value
+
+
+@pytest.mark.parametrize("case", sorted(IMPLAUSIBLE))
+def test_implausible_value_warns_with_the_field_value_and_range(case):
+    path, value, expected = IMPLAUSIBLE[case]
+    mapping = base_mapping()
+    if path[-1] == "grain_size":
+        mapping["layers"][2]["rock"] = "olivine-dry-composite"  # has diffusion creep
+    _set(mapping, path, value)
+    with pytest.warns(RheologyWarning, match=expected):
+        scenario_from_mapping(mapping)
+
+
+def test_plausible_values_do_not_warn():
+    """The edges of each range (common practice) and every bundled example stay quiet."""
+    mapping = base_mapping()
+    mapping["layers"][0]["density"] = "1000 kg/m^3"
+    mapping["layers"][1]["density"] = "4.5 g/cm^3"
+    mapping["strain_rate"] = "1e-20 1/s"
+    mapping["geotherm"]["surface_temperature"] = "-60 degC"
+    mapping["layers"][2]["rock"] = "olivine-dry-composite"
+    mapping["layers"][2]["grain_size"] = "0.1 m"
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", RheologyWarning)
+        scenario_from_mapping(mapping)
+        for name in EXAMPLES:
+            load_scenario(bundled_example(name))
+
+
+def test_rheology_warning_is_not_a_runtime_warning():
+    """The test run turns RuntimeWarning into errors (numerical trouble); these warnings
+    are about the input and must stay warnings."""
+    assert issubclass(RheologyWarning, UserWarning)
+    assert not issubclass(RheologyWarning, RuntimeWarning)
 
 
 # ---------------------------------------------------------------------- other units

@@ -34,7 +34,7 @@ from rheology.library.flowlaw import MECHANISMS, STATUSES, WATER_FORMS
 
 MPA = 1e6
 ZERO_CELSIUS = 273.15
-#: The check values of the reference list were computed with R = 8.314 J/mol/K; the package uses
+#: The check values below were worked by hand with R = 8.314 J/mol/K; the package uses
 #: the exact CODATA 2018 value 8.314462618. For exponents Q/(nRT) of about 15-25 the
 #: stress changes by under 0.1%, below the rounding of every quoted value used here.
 R_HAND = scipy.constants.R
@@ -136,8 +136,9 @@ def test_required_law_coverage():
     assert having("Mei, S.", "peierls")
 
 
-#: Rows whose every number the reference list marks VERIFIED: Rybacki & Dresen (2000)
-#: dislocation creep, Lusk, Platt & Platt (2021) both sets, Evans & Goetze (1979).
+#: Rows whose every number was read on a retrieved page of the publication (its abstract
+#: or text): Rybacki & Dresen (2000, JGR 105) dislocation creep, Lusk, Platt & Platt
+#: (2021, JGR Solid Earth) both sets, Evans & Goetze (1979, JGR 84).
 #: Everything else is FROM MEMORY in at least one number (e.g. the diffusion-creep
 #: grain-size exponent m = 3 of Rybacki & Dresen), so must not claim "checked".
 CHECKED_ROWS = {
@@ -252,10 +253,12 @@ def _power_law_stress_by_hand(A_mpa, n, Q, T_celsius, rate=1e-15, PV=0.0):
 
 
 #: (law id, T [degC], P [Pa], quoted stress [MPa], its decimals, hand formula, source).
-#: Strain rate 1e-15 1/s throughout. Quoted values are DERIVED in the reference list
-#: from the parameters; their status follows the parameters ("checked" parameters for
-#: Rybacki & Dresen and Evans & Goetze; "from memory" for the rest, so those checks
-#: test our conversion and arithmetic against the hand value, not the paper).
+#: Strain rate 1e-15 1/s throughout. Quoted values are worked by hand from the
+#: parameters with sigma = (rate/A)^(1/n) exp((Q+PV)/(nRT)) (derived, not published
+#: numbers); their status follows the parameters ("checked" for Rybacki & Dresen 2000,
+#: JGR 105(B11), 26,017-26,036, whose log10 A, n and Q were read on a retrieved page;
+#: "from memory" for the rest, so those checks test our conversion and arithmetic
+#: against the hand value, not the paper).
 STRENGTH_CHECKS = [
     pytest.param(
         "an-wet-disl-rd00",
@@ -336,7 +339,7 @@ STRENGTH_CHECKS = [
     ("law_id", "celsius", "pressure", "quoted", "decimals", "by_hand"), STRENGTH_CHECKS
 )
 def test_power_law_strength_check_values(law_id, celsius, pressure, quoted, decimals, by_hand):
-    """Dislocation-creep strength at 1e-15 1/s (reference check list, item 8).
+    """Dislocation-creep strength at 1e-15 1/s, worked by hand (sources in STRENGTH_CHECKS).
 
     Step 1: the loaded law (SI) gives the same stress as the hand formula in MPa units,
     sigma = (rate/A)^(1/n) exp((Q+PV)/(nRT)), to solver precision (1e-8 relative; the
@@ -381,9 +384,11 @@ PEIERLS_CHECKS = [
 
 @pytest.mark.parametrize(("law_id", "celsius", "quoted", "decimals", "by_hand"), PEIERLS_CHECKS)
 def test_peierls_strength_check_values(law_id, celsius, quoted, decimals, by_hand):
-    """Low-temperature plasticity at 1e-15 1/s (reference check list, item 9, and
-    caution 3). The closed-form inverse of the n = 0, p = 1, q = 2 law is exact, so the
-    solver must match it to 1e-8; the quoted value is rounded to 1 MPa (tolerance 0.5)."""
+    """Low-temperature plasticity at 1e-15 1/s: Evans & Goetze (1979, JGR 84; law verified
+    against the paper's abstract) and Goetze (1978, Phil. Trans. R. Soc. Lond. A 288;
+    constants from memory), two different fits often confused. The quoted values are worked
+    by hand from the closed-form inverse of the n = 0, p = 1, q = 2 law, which is exact, so
+    the solver must match it to 1e-8; the quoted value is rounded to 1 MPa (tolerance 0.5)."""
     law = get_flow_law(law_id)
     T = celsius + ZERO_CELSIUS
     stress = float(law.stress(1e-15, T, 0.0)) / MPA
@@ -392,9 +397,10 @@ def test_peierls_strength_check_values(law_id, celsius, quoted, decimals, by_han
 
 
 def test_mei_2010_strength_at_600C_from_memory():
-    """Mei et al. (2010) at 600 degC, 1e-15 1/s: 504 MPa (DERIVED in the reference list
-    from parameters recalled from memory). The law has no closed-form inverse, so we also
-    check that the strain rate at the solved stress is the target rate (round trip)."""
+    """Mei et al. (2010, JGR 115, B08204) at 600 degC, 1e-15 1/s: 504 MPa, a root of the law
+    found by bisection outside this package (derived, not published) from parameters
+    recalled from memory. The law has no closed-form inverse, so we also check that the
+    strain rate at the solved stress is the target rate (round trip)."""
     law = get_flow_law("ol-peierls-mei10")
     T = 600 + ZERO_CELSIUS
     stress = float(law.stress(1e-15, T, 0.0))

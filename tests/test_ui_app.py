@@ -349,6 +349,38 @@ def test_unknown_rock_in_pasted_text_shows_error_and_keeps_setup(demo):
     )
 
 
+@pytest.mark.parametrize(
+    "edit, expected",
+    [
+        (
+            lambda text: "title = 'x'\n[[layers]\n",
+            "the pasted text was not loaded: malformed TOML at line 2",
+        ),
+        (
+            lambda text: text.replace('rock = "quartzite-wet"', 'rock = "granite-purple"'),
+            "the pasted text was not loaded: layers[0].rock: unknown rock 'granite-purple'",
+        ),
+    ],
+)
+def test_paste_error_names_the_pasted_text_once(edit, expected):
+    text = bundled_example("demo").read_text(encoding="utf-8")
+    at = _paste(_app().run(), edit(text))
+    assert not at.exception
+    messages = " ".join(e.value for e in at.error)
+    assert messages.startswith(expected), messages
+    assert messages.count("the pasted text") == 1, messages
+
+
+def test_without_source_drops_only_the_source_it_is_given():
+    assert state.without_source("a.toml: malformed TOML at line 2", "a.toml") == (
+        "malformed TOML at line 2"
+    )
+    assert state.without_source("layers[0].rock: bad (in a.toml)", "a.toml") == (
+        "layers[0].rock: bad"
+    )
+    assert state.without_source("b.toml: malformed", "a.toml") == "b.toml: malformed"
+
+
 def test_malformed_upload_shows_error_and_keeps_setup(demo):
     at = _app().run()
     at.file_uploader(key="w_upload").upload(

@@ -130,7 +130,8 @@ def apply_text(text: str, source: str) -> bool:
     try:
         scenario, setup = state.apply_scenario_text(text, source)
     except RheologyError as exc:
-        st.session_state["flash"] = ("error", f"{source} was not loaded: {exc}")
+        message = state.without_source(str(exc), source)
+        st.session_state["flash"] = ("error", f"{source} was not loaded: {message}")
         return False
     except Exception as exc:  # never a traceback on the page
         st.session_state["flash"] = (

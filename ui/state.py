@@ -343,6 +343,32 @@ def apply_scenario_text(text: str, source: str) -> tuple[Any, dict[str, Any]]:
     return scenario, setup_from_mapping(scenario_to_mapping(scenario))
 
 
+def without_source(message: str, source: str) -> str:
+    """``message`` without the ``source`` it names, for a page that names it already.
+
+    The scenario reader starts a malformed-TOML message with ``"<source>: "`` and ends a
+    field error with ``" (in <source>)"``; the page says "<source> was not loaded: ..."
+    itself, so both are dropped.
+
+    Parameters
+    ----------
+    message : str
+        An error message of :func:`apply_scenario_text`.
+    source : str
+        The name given to it (a file name, "the pasted text").
+
+    Returns
+    -------
+    str
+    """
+    prefix, suffix = f"{source}: ", f" (in {source})"
+    if message.startswith(prefix):
+        message = message[len(prefix) :]
+    if message.endswith(suffix):
+        message = message[: -len(suffix)]
+    return message
+
+
 # ----------------------------------------------------------------------------- writing
 
 

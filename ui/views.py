@@ -225,7 +225,7 @@ def library_frame() -> pd.DataFrame:
     return frame.rename(
         columns={
             "n": "n [–]",
-            "p": "grain-size exponent p [–]",
+            "p": "grain-size exponent m [–]",
             "r": "water exponent r [–]",
             "water_form": "water term",
             "experimental_range": "experimental range",

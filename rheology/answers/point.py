@@ -82,7 +82,8 @@ def layer_at(scenario: Scenario, depth: float) -> int:
     """Index of the layer containing ``depth`` [m] (the last layer extends downwards)."""
     if not np.isfinite(depth) or depth < 0 or depth > scenario.max_depth:
         raise RheologyError(
-            f"depth: {depth:g} m is outside the column; expected 0 to {scenario.max_depth:g} m"
+            f"depth: {depth / 1e3:g} km is outside the column; expected 0 to "
+            f"{scenario.max_depth / 1e3:g} km"
         )
     bases = np.cumsum([ly.thickness for ly in scenario.layers])[:-1]
     return int(np.searchsorted(bases, depth, side="left"))
@@ -275,7 +276,10 @@ def conditions_answer(
     if not (np.isfinite(pressure) and pressure >= 0):
         raise RheologyError(f"pressure: {pressure!r} Pa; expected a pressure >= 0")
     if not (0 <= pore_pressure_ratio < 1):
-        raise RheologyError(f"pore_pressure_ratio: {pore_pressure_ratio!r}; expected 0 to < 1")
+        raise RheologyError(
+            f"pore_pressure_ratio: got {pore_pressure_ratio!r}; expected a number from 0 (dry) "
+            "up to, not including, 1 (lithostatic)"
+        )
     fluid = pore_pressure_ratio * pressure
     brittle = float(
         friction.frictional_strength(

@@ -592,7 +592,12 @@ def get_flow_law(law_id: str) -> FlowLaw:
     RheologyError
         Unknown id; the message suggests close matches.
     """
-    return _lookup(_default_flow_laws(), law_id, "flow law", "`rheology.library.flow_law_frame()`")
+    return _lookup(
+        _default_flow_laws(),
+        law_id,
+        "flow law",
+        "`rheology rocks --laws` on the command line, or rheology.load_flow_laws() in Python,",
+    )
 
 
 def get_rock(rock_id: str) -> Rock:

@@ -16,11 +16,25 @@ import pathlib
 
 from rheology.constants import ZERO_CELSIUS
 from rheology.errors import RheologyError
-from rheology.textout import read_scenario_file, text_table
+from rheology.textout import (
+    check_figure_path,
+    option_names,
+    read_scenario_file,
+    share_text,
+    text_table,
+    whole_number,
+)
 
 _KM = 1e3
 #: Skipped rows listed on stderr by ``sites`` (the rest are counted).
 _LISTED_ERRORS = 20
+#: Arguments of the Python API named by their options in error messages.
+_RUN_OPTIONS = {
+    "samples": "--samples",
+    "seed": "--seed",
+    "chunk": "--chunk",
+    "workers": "--workers",
+}
 
 
 def register(subparsers) -> None:
@@ -51,11 +65,11 @@ def _add_uncertainty(subparsers) -> None:
     )
     parser.add_argument("scenario", metavar="SCENARIO.toml", help="scenario file (TOML)")
     parser.add_argument(
-        "--samples", type=int, default=1000, help="number of realisations (default 1000)"
+        "--samples", type=whole_number, default=1000, help="number of realisations (default 1000)"
     )
     parser.add_argument(
         "--seed",
-        type=int,
+        type=whole_number,
         default=None,
         help="random seed; the same seed repeats a run exactly (default: a "
         "fresh seed, printed with the results)",
@@ -114,7 +128,10 @@ def _add_uncertainty(subparsers) -> None:
         help="keep every flow law at its published central values",
     )
     parser.add_argument(
-        "--chunk", type=int, default=None, help="realisations evaluated at once (bounds memory)"
+        "--chunk",
+        type=whole_number,
+        default=None,
+        help="realisations evaluated at once (bounds memory)",
     )
     _add_workers(parser)
     parser.add_argument(
@@ -133,7 +150,7 @@ def _add_uncertainty(subparsers) -> None:
 def _add_workers(parser) -> None:
     parser.add_argument(
         "--workers",
-        type=int,
+        type=whole_number,
         default=1,
         help="threads evaluating chunks at once (default 1; 2 uses both cores "
         "of a 2-core machine); the results do not depend on it",
@@ -194,13 +211,14 @@ def run_uncertainty(args, out, err) -> int:
     from rheology.answers.report import CAUTION
     from rheology.uncertainty.montecarlo import run_monte_carlo
 
+    if args.plot:
+        check_figure_path(args.plot, "spread.png")
     scenario = read_scenario_file(args.scenario)
     spread = _spread(args)
-    if args.plot and not pathlib.Path(args.plot).suffix:
-        raise RheologyError(f"--plot: {args.plot!r} has no file suffix; give e.g. 'spread.png'")
-    result = run_monte_carlo(
-        scenario, spread, args.samples, args.seed, chunk=args.chunk, workers=args.workers
-    )
+    with option_names(_RUN_OPTIONS):
+        result = run_monte_carlo(
+            scenario, spread, args.samples, args.seed, chunk=args.chunk, workers=args.workers
+        )
     notices = []
     if args.plot:
         from rheology.uncertainty.figures import uncertainty_figure
@@ -208,7 +226,7 @@ def run_uncertainty(args, out, err) -> int:
         figure = uncertainty_figure(result)
         figure.savefig(args.plot, dpi=150)
         notices.append(f"figure written to {args.plot}")
-    if not result.inputs:
+    if not result.inputs and spread.law_spread:  # with --no-law-spread the user knows
         notices.append(
             "warning: no input varies (no spread given and no flow law with a "
             "published uncertainty); every realisation is the same"
@@ -230,21 +248,12 @@ def _fmt(value: float, digits: int = 1) -> str:
     return "-" if not math.isfinite(value) else f"{value:.{digits}f}"
 
 
-def _share(fraction: float) -> str:
-    """A share as a percentage; '<1%' rather than '0%' for a rare but present case."""
-    if 0 < fraction < 0.005:
-        return "<1%"
-    if 0.995 <= fraction < 1:
-        return ">99%"
-    return f"{100 * fraction:.0f}%"
-
-
 def _quantile_row(name, q, scale, offset=0.0, digits=1, samples=1):
     shown = [
         (x / scale - offset) if math.isfinite(x) else math.nan
         for x in (q.p10, q.p50, q.p90, q.mean)
     ]
-    return (name, *(_fmt(x, digits) for x in shown), _share(q.count / samples))
+    return (name, *(_fmt(x, digits) for x in shown), share_text(q.count / samples))
 
 
 def summary_text(result) -> str:
@@ -314,7 +323,7 @@ def summary_text(result) -> str:
                 t.kind,
                 t.layer,
                 str(t.occurrence),
-                _share(t.fraction),
+                share_text(t.fraction),
                 _fmt(t.depth.p10 / _KM, 2),
                 _fmt(t.depth.p50 / _KM, 2),
                 _fmt(t.depth.p90 / _KM, 2),
@@ -389,7 +398,7 @@ def _add_sites(subparsers) -> None:
         "--out", required=True, metavar="RESULTS.csv", help="results table to write (CSV)"
     )
     parser.add_argument(
-        "--chunk", type=int, default=None, help="sites evaluated at once (bounds memory)"
+        "--chunk", type=whole_number, default=None, help="sites evaluated at once (bounds memory)"
     )
     _add_workers(parser)
     parser.add_argument("--quiet", action="store_true", help="no progress line on stderr")
@@ -433,9 +442,15 @@ def run_sites(args, out, err) -> int:
     scenario = read_scenario_file(args.scenario)
     progress = ProgressLine(err, enabled=not args.quiet)
     try:
-        results = process_sites(
-            sites, scenario, args.out, chunk=args.chunk, progress=progress, workers=args.workers
-        )
+        with option_names(_RUN_OPTIONS):
+            results = process_sites(
+                sites,
+                scenario,
+                args.out,
+                chunk=args.chunk,
+                progress=progress,
+                workers=args.workers,
+            )
     finally:
         progress.close()
     failed = results.failed

@@ -22,6 +22,8 @@ import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.patches import Patch
 
+from rheology.textout import share_text
+
 #: Colours of our own choosing.
 BAND_COLOUR = "#c9a227"  # ochre: P10-P90 strength band
 MEDIAN_COLOUR = "#5b3a00"  # dark umber: median strength
@@ -142,7 +144,7 @@ def _mark_transitions(result, axes, cap) -> None:
         axes[0].text(
             0.98 * cap,
             t.depth.p50 / _KM,
-            f"{t.kind} in {t.layer}: {top:.1f}-{bottom:.1f} km ({100 * t.fraction:.0f}% of runs)",
+            f"{t.kind} in {t.layer}: {top:.1f}-{bottom:.1f} km ({share_text(t.fraction)} of runs)",
             ha="right",
             va="bottom",
             fontsize="x-small",

@@ -724,8 +724,12 @@ def _store(results: SiteResults, rows, answers: ColumnAnswers) -> None:
 def write_site_results(results: SiteResults, destination) -> None:
     """Write the results table as CSV (UTF-8) to a path or an open text stream.
 
-    Columns are :data:`RESULT_COLUMNS` (units in the headers); empty cells mean "no such
-    depth" (e.g. no brittle-to-ductile transition) or a skipped row (status ``error``).
+    The first line is a comment, ``# <caution>`` (:data:`rheology.CAUTION`), as in the
+    profile CSV of :func:`rheology.outputs.write_profile_csv`. Then come the columns
+    :data:`RESULT_COLUMNS` (units in the headers); empty cells mean "no such depth"
+    (e.g. no brittle-to-ductile transition) or a skipped row (status ``error``). Text
+    cells are quoted, so a ``#`` in a site id or a message is not taken for a comment.
+    Read it with ``pandas.read_csv(path, comment="#")``, or skip the first line.
     """
     if hasattr(destination, "write"):
         _write(results, destination)
@@ -734,10 +738,27 @@ def write_site_results(results: SiteResults, destination) -> None:
         _write(results, handle)
 
 
+#: Result columns written as numbers (unquoted); the others are text.
+_NUMERIC_RESULTS = frozenset(RESULT_COLUMNS[2:-1])
+
+
+def _typed(row: list[str]) -> list:
+    """Cells of one result row, numbers as int or float so the writer leaves them unquoted."""
+    return [
+        cell
+        if name not in _NUMERIC_RESULTS or cell == ""
+        else (int(cell) if name == "transitions" else float(cell))
+        for name, cell in zip(RESULT_COLUMNS, row)
+    ]
+
+
 def _write(results, handle) -> None:
-    writer = csv.writer(handle, lineterminator="\n")
+    from rheology.answers.report import CAUTION
+
+    handle.write("# " + " ".join(CAUTION.split()) + "\n")
+    writer = csv.writer(handle, lineterminator="\n", quoting=csv.QUOTE_NONNUMERIC)
     writer.writerow(RESULT_COLUMNS)
-    writer.writerows(results.rows())
+    writer.writerows(_typed(row) for row in results.rows())
 
 
 def process_sites(
