@@ -616,7 +616,7 @@ def scan_answers(
     inputs: ColumnInputs,
     competent_stress: float,
     competent_fraction: float,
-    band_rows: int = 0,
+    band: int | np.ndarray = 0,
 ) -> ScanResult:
     """Each column's answers, without keeping its (nz,) fields.
 
@@ -626,15 +626,16 @@ def scan_answers(
     competent_stress, competent_fraction : float
         Competence thresholds of the elastic thickness [Pa] and [-] (see
         :func:`rheology.elastic_thickness`).
-    band_rows : int
-        Keep the strength profile of the first ``band_rows`` columns.
+    band : int or ndarray (b, nz)
+        Keep the strength profile [Pa] of the first b columns: their number (a new
+        array), or a C-contiguous array to fill (b <= R).
 
     Returns
     -------
     ScanResult
         ``answers`` (:class:`ColumnAnswers`), ``frictional`` (nz,) the number of columns
-        in which friction is the weaker mechanism at each node, ``band`` (band_rows, nz)
-        the strength [Pa] of the first columns.
+        in which friction is the weaker mechanism at each node, ``band`` (b, nz) the
+        strength [Pa] of the first columns.
 
     Notes
     -----
@@ -652,7 +653,10 @@ def scan_answers(
     layers separated by a weak channel, Te = (sum h_i^3)^(1/3).
     """
     size, nz = inputs.size, inputs.depth.shape[1]
-    band = np.empty((min(band_rows, size), nz))
+    if np.ndim(band) == 0:
+        band = np.empty((min(int(band), size), nz))
+    if band.shape[0] > size or band.shape[1] != nz or not band.flags.c_contiguous:
+        raise RheologyError(f"band: expected a C-contiguous array of <= {size} x {nz}")
     no_fields = (np.empty((0, nz)), np.empty((0, nz)), np.empty((0, nz), np.int8))
     capacity = CAPACITY
     while True:

@@ -1,7 +1,8 @@
 """Uncertainty of strength envelopes: Monte Carlo over inputs, and many sites at once.
 
-Both build on the one batch engine :func:`rheology.envelope.evaluate`, which evaluates
-(R, nz) fields for R realisations through a :class:`rheology.envelope.Variation`:
+Both build on the engine of single envelopes: per-realisation inputs
+(:class:`rheology.envelope.Variation`) go through the numpy physics and the compiled
+column scan of :mod:`rheology.columns`, which reduces each realisation to its answers:
 
 * :func:`run_monte_carlo` samples heat flow (or plate age, or gradient), strain rate,
   friction, pore-pressure ratio and each flow law's A, n, Q, V, and returns percentiles

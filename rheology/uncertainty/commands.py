@@ -151,9 +151,9 @@ def _add_workers(parser) -> None:
     parser.add_argument(
         "--workers",
         type=whole_number,
-        default=1,
-        help="threads evaluating chunks at once (default 1; 2 uses both cores "
-        "of a 2-core machine); the results do not depend on it",
+        default=None,
+        help="threads evaluating chunks at once (default: one per CPU core); the "
+        "results do not depend on it",
     )
 
 

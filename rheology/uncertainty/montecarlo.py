@@ -1,13 +1,13 @@
 """Monte Carlo uncertainty of a strength envelope and of its answers.
 
 Pipeline: a :class:`SpreadSpec` (which inputs vary and how) -> :func:`sample_inputs`
-draws R realisations with one seeded :class:`numpy.random.Generator` -> the realisations
-are evaluated in chunks by the batch engine :func:`rheology.envelope.evaluate` (one
-:class:`rheology.envelope.Variation` per chunk, the realisation axis first) ->
-:func:`column_answers` finds, for every realisation at once, the brittle/ductile
-transitions, the base of the semi-brittle band, the integrated strength and the
-effective elastic thickness -> :func:`run_monte_carlo` gathers percentiles, strength
-bands, the chance of frictional sliding at each depth and a sensitivity ranking.
+draws R realisations with one seeded :class:`numpy.random.Generator` -> the inputs of
+every realisation are prepared once (:func:`rheology.envelope.column_inputs`, the
+geotherm chunk by chunk) -> the compiled scan :func:`rheology.columns.scan_answers`
+finds, for every realisation, the brittle/ductile transitions, the base of the
+semi-brittle band, the integrated strength and the effective elastic thickness ->
+:func:`run_monte_carlo` gathers percentiles, strength bands, the chance of frictional
+sliding at each depth and a sensitivity ranking.
 
 How each input is distributed, how transitions are matched between realisations and
 what the ranking means are set out in ``docs/uncertainty.md``. Everything inside is SI
@@ -22,6 +22,7 @@ from __future__ import annotations
 import concurrent.futures
 import contextlib
 import math
+import os
 import re
 import tomllib
 from collections.abc import Mapping
@@ -648,19 +649,22 @@ def column_answers(
 
 
 def _check_workers(workers) -> int:
+    """``workers`` as an int; None means one thread per CPU core."""
+    if workers is None:
+        return os.cpu_count() or 1
     if isinstance(workers, bool) or not isinstance(workers, int | np.integer) or workers < 1:
         raise RheologyError(f"workers: got {workers!r}; expected a whole number >= 1")
     return int(workers)
 
 
 @contextlib.contextmanager
-def chunk_map(workers: int = 1):
+def chunk_map(workers: int | None = 1):
     """A ``map(function, chunks)`` that keeps the order, on ``workers`` threads (1: no thread).
 
     Parameters
     ----------
-    workers : int
-        Number of threads.
+    workers : int or None
+        Number of threads (None: one per CPU core).
 
     Yields
     ------
@@ -912,6 +916,24 @@ def _matched(answers: ColumnAnswers, layer_names) -> tuple[MatchedTransition, ..
     return tuple(sorted(groups, key=lambda t: (t.depth.p50, t.kind)))
 
 
+def _rank_correlations(inputs, y) -> tuple[np.ndarray, np.ndarray]:
+    """Spearman's rho (and p-value) of each input with ``y``, NaN where one is constant.
+
+    One ``scipy.stats.spearmanr`` call over all the columns ranks each of them once.
+    """
+    rho, p_value = np.full(len(inputs), np.nan), np.full(len(inputs), np.nan)
+    usable = [k for k, x in enumerate(inputs) if np.ptp(x) > 0]
+    if y.size < 3 or np.ptp(y) == 0 or not usable:
+        return rho, p_value
+    result = stats.spearmanr(np.column_stack([*(inputs[k] for k in usable), y]))
+    statistic = np.asarray(result.statistic)
+    if statistic.ndim == 0:  # two columns: scipy returns the one coefficient
+        rho[usable], p_value[usable] = float(statistic), float(result.pvalue)
+    else:
+        rho[usable], p_value[usable] = statistic[-1, :-1], np.asarray(result.pvalue)[-1, :-1]
+    return rho, p_value
+
+
 def _sensitivity(scenario, draws, answers, depth, layer) -> tuple[Sensitivity, ...]:
     """Spearman rho of each varied input with the first brittle-to-ductile depth, and swings."""
     y = answers.first_down_depth
@@ -931,23 +953,17 @@ def _sensitivity(scenario, draws, answers, depth, layer) -> tuple[Sensitivity, .
         columns[item.key][2 * k + 1] = high
     variation = variation_from_columns(scenario, columns, size)
     swings = column_answers(scenario, depth, layer, variation).answers
+    rho, p_value = _rank_correlations([item.values[finite] for item in varied], y[finite])
     out = []
-    constant_y = finite.sum() < 3 or np.ptp(y[finite]) == 0
     for k, item in enumerate(varied):
-        x = item.values[finite]
-        if constant_y or np.ptp(x) == 0:
-            rho = p_value = np.nan
-        else:
-            result = stats.spearmanr(x, y[finite])
-            rho, p_value = float(result.statistic), float(result.pvalue)
         out.append(
             Sensitivity(
                 item.key,
                 item.label,
                 item.unit,
                 item.scale,
-                rho,
-                p_value,
+                rho[k],
+                p_value[k],
                 lows[k],
                 highs[k],
                 float(swings.first_down_depth[2 * k]),
@@ -966,7 +982,7 @@ def run_monte_carlo(
     chunk: int | None = None,
     band_samples: int = BAND_SAMPLES,
     sensitivity: bool = True,
-    workers: int = 1,
+    workers: int | None = None,
 ) -> MonteCarloResult:
     """Monte Carlo run of the envelope of ``scenario`` over the inputs ``spread`` varies.
 
@@ -988,9 +1004,9 @@ def run_monte_carlo(
         At most this many realisations are kept for the strength percentile bands.
     sensitivity : bool
         Compute the sensitivity ranking (Spearman rho and one-at-a-time swings).
-    workers : int
-        Threads evaluating chunks at once (numpy releases the interpreter lock in its
-        array loops, so 2 threads use 2 cores); the result does not depend on it.
+    workers : int, optional
+        Threads evaluating chunks at once (the compiled scans and numpy release the
+        interpreter lock); default one per CPU core. The result does not depend on it.
 
     Returns
     -------
@@ -1031,20 +1047,21 @@ def run_monte_carlo(
     # the (chunk, nz) temperatures chunk by chunk
     base, _ = column_inputs(scenario, depth, layer, variation=draws.variation(), temperature=False)
 
+    kept = np.empty((band_samples, depth.size))  # the strength profiles for the bands
+
     def work(index):
-        kept = max(0, min(band_samples, index.stop) - index.start)
         geotherm = geotherm_profile(scenario, depth, draws.variation(index), split=True)
         if not isinstance(geotherm, LinearGeotherm):
             geotherm = geotherm.temperature
         part = base.rows(index.start, index.stop, geotherm)
-        return scan_answers(part, COMPETENT_STRESS, COMPETENT_FRACTION, kept)
+        band = kept[index.start : min(index.stop, band_samples)]  # empty past the kept ones
+        return scan_answers(part, COMPETENT_STRESS, COMPETENT_FRACTION, band)
 
     chunks = [slice(start, min(start + chunk, samples)) for start in range(0, samples, chunk)]
     with chunk_map(workers) as mapper:
         outcomes = list(mapper(work, chunks))
     answers = ColumnAnswers.concatenate([outcome.answers for outcome in outcomes])
     frictional = np.sum([outcome.frictional for outcome in outcomes], axis=0)
-    kept = np.concatenate([outcome.band for outcome in outcomes if outcome.band.size], axis=0)
     bands = dict(zip(PERCENTILES, column_percentiles(kept, PERCENTILES, workers)))
     centre = evaluate(scenario, depth, layer)
     nominal = column_answers(scenario, depth, layer).answers

@@ -604,7 +604,7 @@ def run_sites(
     *,
     chunk: int | None = None,
     progress: Callable[[int, int], None] | None = None,
-    workers: int = 1,
+    workers: int | None = None,
 ) -> SiteResults:
     """Answers of every good row of ``table`` over the base ``scenario``.
 
@@ -619,8 +619,9 @@ def run_sites(
         about :data:`rheology.uncertainty.montecarlo.CHUNK_ELEMENTS` depth nodes per chunk.
     progress : callable, optional
         Called as ``progress(done, total)`` after each chunk.
-    workers : int
-        Threads evaluating chunks at once; the results do not depend on it.
+    workers : int, optional
+        Threads evaluating chunks at once (default one per CPU core); the results do
+        not depend on it.
 
     Returns
     -------
@@ -768,7 +769,7 @@ def process_sites(
     *,
     chunk: int | None = None,
     progress: Callable[[int, int], None] | None = None,
-    workers: int = 1,
+    workers: int | None = None,
 ) -> SiteResults:
     """Read a sites CSV, run every good row over ``scenario`` and write the results CSV.
 
