@@ -165,9 +165,7 @@ class ColumnInputs:
                 return array
             return array[start:stop]
 
-        names = ("depth", "layer", "lithostatic", "pore_pressure", "pore_ratio", "log_rate")
-        names += ("friction", "temperature", "temperature_value", "temperature_shape")
-        fields = {name: cut(getattr(self, name)) for name in names}
+        fields = {name: cut(getattr(self, name)) for name in _PER_COLUMN}
         if geotherm is not None:
             fields.update(temperature_fields(geotherm, size))
         laws = replace(self.laws, values=cut(self.laws.values))
@@ -175,11 +173,8 @@ class ColumnInputs:
 
     def distinct_rows(self) -> int:
         """1 when every column is the same, else R."""
-        return max(len(a) for a in (*self.node_arrays()[:10], self.laws.values))
-
-    def temperature_at(self, row: int) -> np.ndarray:
-        """Temperature [K] of column ``row`` at every node, as the scans compute it."""
-        return self.temperature_field()[min(row, len(self.temperature_field()) - 1)]
+        per_column = (self.laws.values, *(getattr(self, name) for name in _PER_COLUMN))
+        return max(len(array) for array in per_column)
 
     def temperature_field(self) -> np.ndarray:
         """Temperature [K] at every node, (1 or R, nz), as the scans compute it."""
@@ -206,6 +201,21 @@ class ColumnInputs:
             self.laws.count,
             self.laws.values,
         )
+
+
+#: The fields of :class:`ColumnInputs` with one row per column or one shared row.
+_PER_COLUMN = (
+    "depth",
+    "layer",
+    "temperature",
+    "temperature_value",
+    "temperature_shape",
+    "lithostatic",
+    "pore_pressure",
+    "pore_ratio",
+    "log_rate",
+    "friction",
+)
 
 
 def temperature_fields(geotherm, size: int) -> dict[str, np.ndarray]:
@@ -489,7 +499,8 @@ def _run_scan(inputs: ColumnInputs, *outputs, competent=(0.0, 0.0)) -> int:
     most = _scan(inputs.size, *inputs.node_arrays(), *competent, *outputs)
     if most < 0:
         row, node = divmod(-1 - most, inputs.depth.shape[1])
-        value = inputs.temperature_at(row)[node]
+        field = inputs.temperature_field()
+        value = field[min(row, len(field) - 1), node]
         raise RheologyError(f"temperature: {value} K is not above absolute zero; expected T > 0 K")
     return most
 
