@@ -53,8 +53,9 @@ PERCENTILES = (10.0, 50.0, 90.0)
 #: (one binomial standard error, sqrt(0.1 x 0.9 / 2000)): finer than a drawn band needs,
 #: and the kept profiles stay small (16 MB for 1000 nodes).
 BAND_SAMPLES = 2_000
-#: Depth nodes x realisations evaluated per chunk (bounded memory; about 2 MB per field).
-CHUNK_ELEMENTS = 2**18
+#: At most this many depth nodes x realisations per chunk (bounded memory: 16 MB for a
+#: (chunk, nz) field; a Monte Carlo of a geotherm linear in its surface value has none).
+CHUNK_ELEMENTS = 2**21
 #: Rounds of redrawing for truncated distributions before giving up.
 _MAX_REDRAWS = 200
 #: Geotherm parameters a spread can vary, with their display unit and its size in SI.
@@ -679,9 +680,17 @@ def chunk_map(workers: int | None = 1):
         yield pool.map
 
 
-def default_chunk(nz: int) -> int:
-    """Realisations per chunk for ``nz`` depth nodes (:data:`CHUNK_ELEMENTS` per field)."""
-    return max(1, CHUNK_ELEMENTS // max(int(nz), 1))
+def default_chunk(nz: int, samples: int = 0, workers: int = 1) -> int:
+    """Realisations per chunk for ``nz`` depth nodes.
+
+    At most :data:`CHUNK_ELEMENTS` per (chunk, nz) field; with ``samples`` given, the
+    number of chunks is a multiple of ``workers``, so the threads share them evenly.
+    """
+    largest = max(1, CHUNK_ELEMENTS // max(int(nz), 1))
+    if samples <= 0:
+        return largest
+    count = math.ceil(math.ceil(samples / largest) / workers) * workers
+    return max(1, math.ceil(samples / count))
 
 
 # ------------------------------------------------------------------ summaries
@@ -999,7 +1008,8 @@ def run_monte_carlo(
         Seed of :func:`numpy.random.default_rng`; the same seed gives the same result bit
         for bit, whatever the chunk size. None draws a fresh seed, reported in the result.
     chunk : int, optional
-        Realisations evaluated at once (default :func:`default_chunk`); bounds memory.
+        Realisations evaluated at once (default :func:`default_chunk`, shared evenly by
+        the workers); bounds memory.
     band_samples : int
         At most this many realisations are kept for the strength percentile bands.
     sensitivity : bool
@@ -1036,12 +1046,12 @@ def run_monte_carlo(
     rng = np.random.default_rng(int(seed))
     draws = sample_inputs(scenario, spread, int(samples), rng)
     depth, layer = depth_grid(scenario)
+    workers = _check_workers(workers)
     if chunk is None:
-        chunk = default_chunk(depth.size)
+        chunk = default_chunk(depth.size, int(samples), workers)
     if isinstance(chunk, bool) or not isinstance(chunk, int | np.integer) or chunk < 1:
         raise RheologyError(f"chunk: got {chunk!r}; expected a whole number >= 1")
     band_samples = max(1, min(int(band_samples), int(samples)))
-    workers = _check_workers(workers)
 
     # everything but the geotherm is small per realisation: prepare it once, and compute
     # the (chunk, nz) temperatures chunk by chunk
