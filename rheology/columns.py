@@ -39,7 +39,7 @@ from rheology.physics.creep import (
     WORK_COLUMNS,
     arrhenius,
     power_law_log_stress,
-    set_term,
+    set_law,
     solve_log_stress,
     term_table,
 )
@@ -176,6 +176,10 @@ class ColumnInputs:
         per_column = (self.laws.values, *(getattr(self, name) for name in _PER_COLUMN))
         return max(len(array) for array in per_column)
 
+    def pore_pressure_field(self) -> np.ndarray:
+        """Pore-fluid pressure [Pa] at every node, (1 or R, nz), as the scans compute it."""
+        return self.pore_pressure + self.pore_ratio[:, None] * self.lithostatic
+
     def temperature_field(self) -> np.ndarray:
         """Temperature [K] at every node, (1 or R, nz), as the scans compute it."""
         return self.temperature + self.temperature_value[:, None] * self.temperature_shape
@@ -221,11 +225,11 @@ _PER_COLUMN = (
 def temperature_fields(geotherm, size: int) -> dict[str, np.ndarray]:
     """The temperature fields of :class:`ColumnInputs` from a geotherm of ``size`` columns.
 
-    ``geotherm`` is a :class:`rheology.physics.geotherm.LinearGeotherm` or, for any
-    other geotherm, the temperature array itself.
+    ``geotherm`` is a :class:`rheology.physics.geotherm.LinearGeotherm`, any other
+    :class:`rheology.physics.geotherm.GeothermProfile`, or a temperature array [K].
     """
     if not isinstance(geotherm, LinearGeotherm):
-        temperature = node_rows(geotherm, size)
+        temperature = node_rows(getattr(geotherm, "temperature", geotherm), size)
         return {
             "temperature": temperature,
             "temperature_value": np.zeros(1),
@@ -330,27 +334,9 @@ def _scan(
     for r in range(size):
         row = _row(values, r)
         for t in range(n_terms):  # this column's laws; ln A and H are set at each node
-            log_A[t], n[t], Q[t], V[t] = (
-                values[row, 0, t],
-                values[row, 1, t],
-                values[row, 2, t],
-                values[row, 3, t],
-            )
-            set_term(
-                work,
-                t,
-                kind[t],
-                log_A[t],
-                n[t],
-                Q[t],
-                V[t],
-                values[row, 4, t],
-                values[row, 5, t],
-                values[row, 6, t],
-                values[row, 7, t],
-                0.0,
-                1.0,
-            )
+            law = values[row, :, t]  # A, n, Q, V, sigma_P, p, q, lowest stress (TERM_FIELDS)
+            log_A[t], n[t], Q[t], V[t] = law[0], law[1], law[2], law[3]
+            set_law(work, t, kind[t], n[t], law[4], law[5], law[6], law[7])
         rd, rl, rt = _row(depth, r), _row(layer, r), _row(temperature, r)
         rv, rh = _row(temperature_value, r), _row(temperature_shape, r)
         value = temperature_value[rv]

@@ -230,16 +230,21 @@ def geotherm_profile(
 
 
 def pore_pressure(scenario: Scenario, depth, lithostatic, variation: Variation | None = None):
-    """Pore-fluid pressure [Pa] at ``depth`` for the scenario's pore-pressure model."""
-    if variation is not None and variation.pore_pressure_ratio is not None:
-        return pressure.pore_pressure_from_ratio(
-            lithostatic, _column(variation.pore_pressure_ratio)
-        )
+    """Pore pressure as (pressure [Pa], ratio): P_f = pressure + ratio sigma_v.
+
+    A pore-pressure ratio (the variation's, or the scenario's model) comes as the ratio
+    itself (Hubbert & Rubey 1959), with no pressure array; the hydrostatic and
+    overpressured models come as pressures with ratio 0.
+    """
+    ratio = None if variation is None else variation.pore_pressure_ratio
     model = scenario.pore_pressure
-    if model.kind == "ratio":
-        return pressure.pore_pressure_from_ratio(lithostatic, model.ratio)
+    if ratio is None and model.kind == "ratio":
+        ratio = model.ratio
+    if ratio is not None:  # P_f = lambda sigma_v
+        ratio = pressure.check_ratio(np.asarray(ratio, float).reshape(-1), "pore_pressure_ratio")
+        return np.zeros((1, np.shape(depth)[-1])), ratio
     if model.kind == "hydrostatic":
-        return pressure.hydrostatic_pressure(depth) + 0.0 * lithostatic
+        return pressure.hydrostatic_pressure(depth) + 0.0 * lithostatic, np.zeros(1)
     thickness = [ly.thickness for ly in scenario.layers]
     if variation is not None and variation.thickness is not None:
         thickness = np.asarray(variation.thickness, float)
@@ -248,9 +253,10 @@ def pore_pressure(scenario: Scenario, depth, lithostatic, variation: Variation |
         thickness,
         [ly.density for ly in scenario.layers],
     )
-    return pressure.pore_pressure_overpressured(
+    fluid = pressure.pore_pressure_overpressured(
         depth, lithostatic, model.top_depth, model.ratio_below, at_top
     )
+    return fluid, np.zeros(1)
 
 
 def layer_terms(scenario: Scenario, variation: Variation | None = None):
@@ -311,17 +317,6 @@ def _friction_rows(scenario: Scenario, variation: Variation | None) -> np.ndarra
     return np.ascontiguousarray(packed.reshape(-1, 4))
 
 
-def _pore_parts(scenario: Scenario, depth, lithostatic, variation: Variation | None):
-    """Pore pressure as (pressure [Pa], ratio): P_f = pressure + ratio sigma_v."""
-    ratio = None if variation is None else variation.pore_pressure_ratio
-    if ratio is None and scenario.pore_pressure.kind == "ratio":
-        ratio = scenario.pore_pressure.ratio
-    if ratio is not None:  # P_f = lambda sigma_v (Hubbert & Rubey 1959)
-        ratio = pressure.check_ratio(np.asarray(ratio, float).reshape(-1), "pore_pressure_ratio")
-        return np.zeros((1, np.shape(depth)[-1])), ratio
-    return pore_pressure(scenario, depth, lithostatic, variation), np.zeros(1)
-
-
 def column_inputs(
     scenario: Scenario,
     depth,
@@ -360,26 +355,17 @@ def column_inputs(
     thickness = [ly.thickness for ly in scenario.layers]
     if variation is not None and variation.thickness is not None:
         thickness = np.asarray(variation.thickness, float)
-    heat_flow, temperature_fields = (
-        None,
-        {
-            "temperature": None,
-            "temperature_value": None,
-            "temperature_shape": None,
-        },
-    )
     size = 1 if variation is None else int(variation.size)
+    heat_flow = None
+    temperature_fields = dict.fromkeys(("temperature", "temperature_value", "temperature_shape"))
     if temperature:
         profile = geotherm_profile(scenario, depth, variation, split=True)
         heat_flow = profile.heat_flow
-        split = isinstance(profile, geotherm.LinearGeotherm)
-        temperature_fields = columns.temperature_fields(
-            profile if split else profile.temperature, size
-        )
+        temperature_fields = columns.temperature_fields(profile, size)
     lithostatic = pressure.lithostatic_pressure(
         depth, thickness, [ly.density for ly in scenario.layers]
     )
-    fluid, ratio = _pore_parts(scenario, depth, lithostatic, variation)
+    fluid, ratio = pore_pressure(scenario, depth, lithostatic, variation)
     strain_rate = scenario.strain_rate
     if variation is not None and variation.strain_rate is not None:
         strain_rate = np.asarray(variation.strain_rate, float)
@@ -427,11 +413,10 @@ def evaluate(
     inputs, heat_flow = column_inputs(scenario, depth, layer, variation=variation, laws=terms)
     rows = inputs.distinct_rows()
     scanned = scan_fields(replace(inputs, size=rows) if rows == 1 else inputs)
-    fluid = inputs.pore_pressure + inputs.pore_ratio[:, None] * inputs.lithostatic
     fields = dict(
         temperature=inputs.temperature_field(),
         lithostatic=inputs.lithostatic,
-        pore_pressure=fluid,
+        pore_pressure=inputs.pore_pressure_field(),
         **scanned,
     )
     if rows == 1 and depth.ndim < 2:  # one column: (nz,) fields

@@ -557,17 +557,23 @@ def solve_log_stress(target, work, first, count):
 
 
 @compiled
-def set_term(work, t, kind, log_A, n, Q, V, log_sp, p, q, log_min, pressure, temperature):
-    """Fill row ``t`` of a solver work array for one term at (pressure [Pa], T [K])."""
-    H = arrhenius(Q, V, pressure, temperature)
+def set_law(work, t, kind, n, log_sp, p, q, log_min):
+    """Fill the parts of row ``t`` of a solver work array that do not depend on (P, T)."""
     work[t, KIND] = kind
-    work[t, A_TERM] = log_A - H if kind == _POWER else log_A
-    work[t, H_TERM] = H
     work[t, N_TERM] = n
     work[t, LOG_SP] = log_sp
     work[t, P_TERM] = p
     work[t, Q_TERM] = q
     work[t, LOG_MIN] = log_min
+
+
+@compiled
+def set_term(work, t, kind, log_A, n, Q, V, log_sp, p, q, log_min, pressure, temperature):
+    """Fill row ``t`` of a solver work array for one term at (pressure [Pa], T [K])."""
+    set_law(work, t, kind, n, log_sp, p, q, log_min)
+    H = arrhenius(Q, V, pressure, temperature)
+    work[t, A_TERM] = log_A - H if kind == _POWER else log_A
+    work[t, H_TERM] = H
 
 
 @compiled

@@ -36,10 +36,9 @@ from rheology.answers.integrated import COMPETENT_FRACTION, COMPETENT_STRESS
 from rheology.answers.transitions import BRITTLE_TO_DUCTILE, DUCTILE_TO_BRITTLE
 from rheology.columns import ColumnAnswers, ScanResult, scan_answers
 from rheology.constants import SECONDS_PER_MYR
-from rheology.envelope import Variation, column_inputs, depth_grid, evaluate, geotherm_profile
+from rheology.envelope import Variation, column_inputs, depth_grid, geotherm_profile
 from rheology.errors import RheologyError
 from rheology.model import Scenario
-from rheology.physics.geotherm import LinearGeotherm
 from rheology.uncertainty.bands import column_percentiles
 
 #: Upper limit of sampled pore-pressure ratios (lithostatic fluid pressure, ratio 1, would
@@ -1061,8 +1060,6 @@ def run_monte_carlo(
 
     def work(index):
         geotherm = geotherm_profile(scenario, depth, draws.variation(index), split=True)
-        if not isinstance(geotherm, LinearGeotherm):
-            geotherm = geotherm.temperature
         part = base.rows(index.start, index.stop, geotherm)
         band = kept[index.start : min(index.stop, band_samples)]  # empty past the kept ones
         return scan_answers(part, COMPETENT_STRESS, COMPETENT_FRACTION, band)
@@ -1073,8 +1070,7 @@ def run_monte_carlo(
     answers = ColumnAnswers.concatenate([outcome.answers for outcome in outcomes])
     frictional = np.sum([outcome.frictional for outcome in outcomes], axis=0)
     bands = dict(zip(PERCENTILES, column_percentiles(kept, PERCENTILES, workers)))
-    centre = evaluate(scenario, depth, layer)
-    nominal = column_answers(scenario, depth, layer).answers
+    centre = column_answers(scenario, depth, layer, band_rows=1)  # the scenario itself
     names = [ly.name for ly in scenario.layers]
     ranking = _sensitivity(scenario, draws, answers, depth, layer) if sensitivity else ()
     return MonteCarloResult(
@@ -1084,10 +1080,10 @@ def run_monte_carlo(
         seed=int(seed),
         inputs=draws.inputs,
         answers=answers,
-        nominal=nominal,
+        nominal=centre.answers,
         depth=depth,
         layer=layer,
-        nominal_strength=np.asarray(centre["strength"]),
+        nominal_strength=centre.band[0],
         bands=bands,
         band_count=int(kept.shape[0]),
         frictional_probability=frictional / samples,
